@@ -28,11 +28,12 @@ type Stream[T any] struct {
 	n     int       // items pushed so far
 	last  float64   // event streams: time of the last item
 	known float64   // data extent known so far (exclusive end)
+	floor float64   // gaps may not start before this: the end of data pushed so far
 
 	cur    eventCursor // event streams: cursor over times, kept between windows
 	gaps   []Interval  // merged gaps that may still touch an unreleased window
-	gi     int        // validTime cursor into gaps
-	k      int64      // next window to release
+	gi     int         // validTime cursor into gaps
+	k      int64       // next window to release
 	closed bool
 	err    error
 }
@@ -46,7 +47,7 @@ func NewEventStream[T any](g Grid, timeOf func(T) float64) (*Stream[T], error) {
 	if timeOf == nil {
 		return nil, fmt.Errorf("window: nil time function: %w", ErrInput)
 	}
-	return &Stream[T]{g: g, timeOf: timeOf, k: g.firstK(0), last: math.Inf(-1)}, nil
+	return &Stream[T]{g: g, timeOf: timeOf, k: g.firstK(0), last: math.Inf(-1), known: math.Inf(-1), floor: math.Inf(-1)}, nil
 }
 
 // NewSampleStream returns a stream over a uniformly sampled series whose
@@ -61,7 +62,7 @@ func NewSampleStream[T any](g Grid, rateHz, t0 float64) (*Stream[T], error) {
 	if !finite(t0) {
 		return nil, fmt.Errorf("window: series start %v s: %w", t0, ErrInput)
 	}
-	return &Stream[T]{g: g, sampled: true, rate: rateHz, t0: t0, known: t0, k: g.firstK(t0)}, nil
+	return &Stream[T]{g: g, sampled: true, rate: rateHz, t0: t0, known: t0, k: g.firstK(t0), floor: math.Inf(-1)}, nil
 }
 
 // Push appends items in time order. For event streams each item's time must
@@ -71,24 +72,28 @@ func (s *Stream[T]) Push(items ...T) error {
 	if err := s.usable(); err != nil {
 		return err
 	}
+	s.compact()
 	if !s.sampled {
 		for i, it := range items {
 			t := s.timeOf(it)
 			if !finite(t) {
 				return s.fail(fmt.Errorf("window: event %d time %v not finite: %w", s.n+i, t, ErrInput))
 			}
-			if t < s.last {
-				return s.fail(fmt.Errorf("window: event %d at %v s before previous at %v s: %w", s.n+i, t, s.last, ErrOrder))
+			if t < s.known || t < s.last {
+				return s.fail(fmt.Errorf("window: event %d at %v s before data already declared up to %v s: %w", s.n+i, t, math.Max(s.known, s.last), ErrOrder))
 			}
 			s.last = t
+			s.known = t
 			s.times = append(s.times, t)
 		}
-		s.known = math.Max(s.known, s.last)
 	}
 	s.buf = append(s.buf, items...)
 	s.n += len(items)
 	if s.sampled {
 		s.known = sampleTime(s.t0, s.rate, s.n)
+	}
+	if len(items) > 0 {
+		s.floor = s.known
 	}
 	return nil
 }
@@ -103,8 +108,8 @@ func (s *Stream[T]) Gap(iv Interval) error {
 	if !finite(iv.Start) || !finite(iv.End) || iv.End < iv.Start {
 		return s.fail(fmt.Errorf("window: gap [%v, %v): %w", iv.Start, iv.End, ErrInput))
 	}
-	if iv.Start < s.known {
-		return s.fail(fmt.Errorf("window: gap starting %v s declared after data up to %v s: %w", iv.Start, s.known, ErrOrder))
+	if iv.Start < s.floor {
+		return s.fail(fmt.Errorf("window: gap starting %v s declared after data up to %v s: %w", iv.Start, s.floor, ErrOrder))
 	}
 	if n := len(s.gaps); n > 0 && iv.Start < s.gaps[n-1].Start {
 		return s.fail(fmt.Errorf("window: gap starting %v s after gap starting %v s: %w", iv.Start, s.gaps[n-1].Start, ErrOrder))
@@ -135,6 +140,7 @@ func (s *Stream[T]) Advance(t float64) error {
 		return s.fail(fmt.Errorf("window: advance to %v s, already at %v s: %w", t, s.known, ErrOrder))
 	}
 	s.known = t
+	s.floor = t
 	return nil
 }
 
@@ -146,6 +152,9 @@ func (s *Stream[T]) Close() error {
 		return err
 	}
 	s.closed = true
+	if !s.sampled && s.known < 0 {
+		s.known = 0 // the extent of an event stream starts at the origin
+	}
 	return nil
 }
 
@@ -168,8 +177,9 @@ func (s *Stream[T]) fail(err error) error {
 }
 
 // Ready yields the windows released so far with the items inside each. The
-// item slice aliases the stream's buffer and is valid until the next Push.
-// Drain Ready after every Push to keep memory bounded.
+// item slice aliases the stream's buffer: it is valid until the next Push, so
+// copy what must outlive it. Drain Ready after every Push to keep memory
+// bounded by the window length.
 func (s *Stream[T]) Ready() iter.Seq2[Window, []T] {
 	return func(yield func(Window, []T) bool) {
 		for {
@@ -212,31 +222,43 @@ func (s *Stream[T]) next() (Window, []T, bool) {
 	return w, items, true
 }
 
-// trim drops items and gaps that can no longer fall in window s.k or later.
-// It compacts only when at least half the buffer is dead, so the cost is
-// amortised O(1) per item. Slices returned earlier by Ready stay intact
-// because compaction copies into a fresh array.
+// trim drops the gaps that can no longer touch window s.k or later and
+// moves the event cursor to its start. Items are dropped later, by compact.
 func (s *Stream[T]) trim() {
+	if !s.sampled {
+		st, _ := s.g.bounds(s.k)
+		s.cur.times = s.times
+		s.cur.rangeOf(st, st)
+	}
+	if s.gi > 0 {
+		s.gaps = append(s.gaps[:0], s.gaps[s.gi:]...)
+		s.gi = 0
+	}
+}
+
+// compact drops, in place, the items that can no longer fall in window s.k
+// or later. It runs at the start of Push (slices handed out by Ready are
+// documented as valid only until then) and only when at least half the
+// buffer is dead, so the cost is amortised O(1) per item and the steady state
+// allocates nothing.
+func (s *Stream[T]) compact() {
 	st, _ := s.g.bounds(s.k)
-	keep := s.base
+	var keep int
 	if s.sampled {
 		keep = min(firstSampleAtOrAfter(st, s.t0, s.rate), s.n)
 	} else {
-		s.cur.times = s.times
-		s.cur.rangeOf(st, st)
 		keep = s.base + s.cur.lo
 	}
 	dead := keep - s.base
-	if dead > 0 && dead*2 >= len(s.buf) {
-		s.buf = append(make([]T, 0, max(len(s.buf)-dead, 16)), s.buf[dead:]...)
-		if !s.sampled {
-			s.times = append(make([]float64, 0, max(len(s.times)-dead, 16)), s.times[dead:]...)
-			s.cur = eventCursor{times: s.times, base: keep, lo: s.cur.lo - dead, hi: s.cur.hi - dead}
-		}
-		s.base = keep
+	if dead <= 0 || dead*2 < len(s.buf) {
+		return
 	}
-	for s.gi > 0 {
-		s.gaps = s.gaps[1:]
-		s.gi--
+	m := copy(s.buf, s.buf[dead:])
+	clear(s.buf[m:]) // release references held by dropped items
+	s.buf = s.buf[:m]
+	if !s.sampled {
+		s.times = s.times[:copy(s.times, s.times[dead:])]
+		s.cur = eventCursor{times: s.times, base: keep, lo: s.cur.lo - dead, hi: s.cur.hi - dead}
 	}
+	s.base = keep
 }
