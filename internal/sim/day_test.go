@@ -1,0 +1,123 @@
+package sim
+
+import (
+	"math"
+	"testing"
+)
+
+// The scenario's event truth must follow the schedule it claims: these checks
+// compare the generated beats, breaths and steps with the schedule's targets
+// (the physiology in day.go's header; demo data, so the tolerances only say
+// that the generators do what their doc comments say).
+func TestDayEventsFollowSchedule(t *testing.T) {
+	tr := dayEvents(1)
+	if len(tr.Segments) != 5 {
+		t.Fatalf("%d segments, want 5", len(tr.Segments))
+	}
+	if tr.Segments[len(tr.Segments)-1].EndS != DayDurationS {
+		t.Errorf("schedule ends at %v s, want %v", tr.Segments[len(tr.Segments)-1].EndS, DayDurationS)
+	}
+	for i := 1; i < len(tr.Beats); i++ {
+		if !(tr.Beats[i].TimeS > tr.Beats[i-1].TimeS) {
+			t.Fatalf("beat %d at %v not after %v", i, tr.Beats[i].TimeS, tr.Beats[i-1].TimeS)
+		}
+	}
+	// Heart rate in the last two minutes of rest and of the nap sits at the
+	// target (kinetics settled; RSA and jitter average out): within 3 %.
+	for _, c := range []struct {
+		name       string
+		start, end float64
+		want       float64
+	}{
+		{"rest", 360, 480, 58},
+		{"nap", 7080, 7200, 52},
+	} {
+		if got := tr.MeanHR(c.start, c.end); math.Abs(got-c.want) > 0.03*c.want {
+			t.Errorf("%s HR = %.1f beats/min, want %.0f +- 3 %%", c.name, got, c.want)
+		}
+	}
+	// The hard repeats reach ~185 beats/min: peak 30-beat mean HR in the
+	// intervals between 175 and 195.
+	peak := 0.0
+	for i := 30; i < len(tr.Beats); i++ {
+		if tr.Beats[i].TimeS < 1200 || tr.Beats[i].TimeS >= 2880 {
+			continue
+		}
+		hr := 60 * 30 / (tr.Beats[i].TimeS - tr.Beats[i-30].TimeS)
+		peak = math.Max(peak, hr)
+	}
+	if peak < 175 || peak > 195 {
+		t.Errorf("peak interval HR = %.1f beats/min, want 175..195", peak)
+	}
+	// Breathing rate at rest and in the nap near the targets (13 and 10 /min)
+	// within 8 %; minute ventilation in the last minute of a hard repeat
+	// near 100 L/min (48/min x 2.1 L) within 20 %.
+	if got := tr.BreathRate(240, 480); math.Abs(got-13) > 0.08*13 {
+		t.Errorf("rest breathing rate %.1f/min, want 13 +- 8 %%", got)
+	}
+	if got := tr.BreathRate(6800, 7200); math.Abs(got-10) > 0.08*10 {
+		t.Errorf("nap breathing rate %.1f/min, want 10 +- 8 %%", got)
+	}
+	var vol float64
+	for _, b := range tr.Breaths {
+		if b.OnsetS >= 1200+60+120 && b.OnsetS < 1200+60+180 { // last minute of repeat 1
+			vol += b.TidalL
+		}
+	}
+	if vol < 80 || vol > 120 {
+		t.Errorf("ventilation in a hard minute = %.0f L/min, want 100 +- 20 %%", vol)
+	}
+	// Every apnea holds only obstructed efforts, and at least one effort.
+	for _, a := range tr.Apneas {
+		n := 0
+		for _, b := range tr.Breaths {
+			if b.OnsetS >= a.StartS && b.OnsetS < a.EndS {
+				n++
+				if !b.Obstructed {
+					t.Errorf("apnea %v: breath at %.1f s has airflow", a, b.OnsetS)
+				}
+			} else if b.Obstructed {
+				if _, ok := inAny(b.OnsetS, tr.Apneas); !ok {
+					t.Errorf("obstructed effort at %.1f s outside every apnea", b.OnsetS)
+				}
+			}
+		}
+		if n == 0 {
+			t.Errorf("apnea %v has no efforts", a)
+		}
+	}
+	// Steps: the count in each moving segment equals its cadence times its
+	// duration within 3 % (2 % stride jitter); none at rest or in the nap.
+	if n := tr.StepsIn(0, 480) + tr.StepsIn(3600, 7200); n != 0 {
+		t.Errorf("%d steps while resting or asleep", n)
+	}
+	if got, want := float64(tr.StepsIn(480, 1200)), 162.0*12; math.Abs(got-want) > 0.03*want {
+		t.Errorf("warm-up steps %v, want %v +- 3 %%", got, want)
+	}
+	// Ectopic beats: about one in 400.
+	nv := 0
+	for _, b := range tr.Beats {
+		if b.Kind == 'V' {
+			nv++
+		}
+	}
+	if nv < 5 || nv > 60 {
+		t.Errorf("%d ventricular beats in %d, want about 1 in 400", nv, len(tr.Beats))
+	}
+}
+
+func TestDayEventsDeterministic(t *testing.T) {
+	a, b := dayEvents(7), dayEvents(7)
+	if len(a.Beats) != len(b.Beats) || len(a.Breaths) != len(b.Breaths) || len(a.Steps) != len(b.Steps) {
+		t.Fatal("same seed gave different event counts")
+	}
+	for i := range a.Beats {
+		if a.Beats[i] != b.Beats[i] {
+			t.Fatalf("beat %d differs", i)
+		}
+	}
+	c := dayEvents(8)
+	if len(c.Beats) == len(a.Beats) && c.Beats[100] == a.Beats[100] {
+		t.Error("different seeds gave the same beats")
+	}
+}
