@@ -144,10 +144,10 @@ type DayBeat struct {
 
 // DayBreath is one simulated breath.
 type DayBreath struct {
-	OnsetS float64 // start of inspiration, s
-	PeakS  float64 // end of inspiration, s
-	EndS   float64 // end of expiration, s
-	TidalL float64 // volume, L (0 for an effort without airflow)
+	OnsetS  float64 // start of inspiration, s
+	PeakS   float64 // end of inspiration, s
+	EndS    float64 // end of expiration, s
+	TidalL  float64 // volume, L (0 for an effort without airflow)
 	RibFrac float64 // share of the volume taken by the rib cage, 0..1
 	// Obstructed marks an effort against a closed airway: the bands move in
 	// antiphase with equal and opposite volume and their calibrated sum is flat.
