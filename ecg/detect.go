@@ -1,0 +1,779 @@
+package ecg
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"github.com/tidalbeat/tidalbeat/internal/dsp"
+	"github.com/tidalbeat/tidalbeat/window"
+)
+
+// Errors returned by the package; test with errors.Is.
+var (
+	ErrRate    = errors.New("sampling rate outside 100..1000 Hz")
+	ErrOptions = errors.New("invalid options")
+	ErrEmpty   = errors.New("empty input")
+	ErrClosed  = errors.New("detector flushed")
+	ErrInput   = errors.New("invalid input")
+)
+
+// Supported sampling rates. Below 100 Hz the R fiducial point is too coarse
+// even with interpolation (Task Force 1996, as restated in the methods
+// reference section 2.1, from memory); above 1000 Hz nothing is gained.
+const (
+	MinRateHz = 100
+	MaxRateHz = 1000
+)
+
+// Options tunes the detector. Zero values mean the documented defaults.
+type Options struct {
+	// BaselineHz is the baseline-wander high-pass corner; 0.5 Hz when zero
+	// (common practice, no source).
+	BaselineHz float64
+	// NotchHz lists power-line frequencies to suppress; 50 and 60 Hz when nil
+	// (both mains frequencies in use). An empty non-nil slice disables the
+	// notches.
+	NotchHz []float64
+	// NotchWidthHz is the -3 dB width of each notch; 2 Hz when zero (common
+	// practice).
+	NotchWidthHz float64
+	// BandLowHz and BandHighHz bound the detection band-pass; 5 and 15 Hz when
+	// zero (Tompkins 1993, section 12.5.1: "about 5-15 Hz").
+	BandLowHz, BandHighHz float64
+	// IntegrationS is the moving-window integrator length; 0.150 s when zero
+	// (Pan and Tompkins 1985: 30 samples at 200 Hz).
+	IntegrationS float64
+	// RefractoryS is the shortest allowed RR; 0.200 s when zero (Pan and
+	// Tompkins 1985; the 200 ms figure is standard).
+	RefractoryS float64
+	// TWaveS is the interval after a QRS in which a candidate with less than
+	// half the QRS's maximal slope is taken for a T wave; 0.360 s when zero
+	// (Pan and Tompkins 1985, from memory, widely restated).
+	TWaveS float64
+	// LearningS is the learning phase at the start and after every gap, used
+	// to initialise the thresholds; 2 s when zero (Pan and Tompkins 1985,
+	// from memory: "about 2 s"). Segments of valid signal shorter than this
+	// yield no beats.
+	LearningS float64
+	// FlatS is the shortest run of identical samples treated as a flat line
+	// (lead off, disconnected amplifier, stuck converter); 0.5 s when zero
+	// (common practice, no source). Flat runs are gaps.
+	FlatS float64
+	// ClipLowmV and ClipHighmV, when ClipHighmV > ClipLowmV, are the
+	// amplifier's saturation rails: samples at or beyond them are invalid
+	// (gaps). Unset by default; runs of a clipped constant longer than FlatS
+	// are caught as flat lines anyway.
+	ClipLowmV, ClipHighmV float64
+	// Polarity forces the R-peak polarity: +1 picks maxima of the
+	// conditioned signal, -1 minima, 0 (default) decides from the beats seen
+	// so far (a running vote of the larger deflection of each QRS).
+	Polarity int
+}
+
+func (o Options) withDefaults() (Options, error) {
+	def := func(v *float64, d float64) {
+		if *v == 0 {
+			*v = d
+		}
+	}
+	def(&o.BaselineHz, 0.5)
+	def(&o.NotchWidthHz, 2)
+	def(&o.BandLowHz, 5)
+	def(&o.BandHighHz, 15)
+	def(&o.IntegrationS, 0.150)
+	def(&o.RefractoryS, 0.200)
+	def(&o.TWaveS, 0.360)
+	def(&o.LearningS, 2)
+	def(&o.FlatS, 0.5)
+	if o.NotchHz == nil {
+		o.NotchHz = []float64{50, 60}
+	}
+	for _, v := range []float64{o.BaselineHz, o.NotchWidthHz, o.BandLowHz, o.BandHighHz, o.IntegrationS, o.RefractoryS, o.TWaveS, o.LearningS, o.FlatS} {
+		if !(v > 0) || math.IsInf(v, 0) {
+			return o, fmt.Errorf("ecg: option value %v: %w", v, ErrOptions)
+		}
+	}
+	switch {
+	case o.IntegrationS > 1 || o.RefractoryS > 1 || o.TWaveS > 2 || o.LearningS > 60 || o.FlatS > 60:
+		return o, fmt.Errorf("ecg: time constant too long (integration %v s, refractory %v s, T-wave %v s, learning %v s, flat %v s): %w",
+			o.IntegrationS, o.RefractoryS, o.TWaveS, o.LearningS, o.FlatS, ErrOptions)
+	case o.Polarity < -1 || o.Polarity > 1:
+		return o, fmt.Errorf("ecg: polarity %d not in -1, 0, 1: %w", o.Polarity, ErrOptions)
+	case math.IsNaN(o.ClipLowmV) || math.IsNaN(o.ClipHighmV):
+		return o, fmt.Errorf("ecg: clip rails NaN: %w", ErrOptions)
+	}
+	return o, nil
+}
+
+// Beat is one detected R-peak.
+type Beat struct {
+	// Sample is the index of the R extremum on the conditioned signal, at the
+	// signal's own rate, counted from the first sample given.
+	Sample int
+	// Time is the R-peak time in seconds from the first sample, including
+	// the parabolic sub-sample offset when the rate is below 250 Hz.
+	Time float64
+	// AmplitudemV is the peak-to-trough amplitude of the QRS on the
+	// conditioned signal (input units; mV for an ECG in mV), inside the
+	// R-peak search window (about 150 ms).
+	AmplitudemV float64
+	// SearchBack is true when the beat was found by search-back (second,
+	// lower threshold) rather than on the first pass.
+	SearchBack bool
+}
+
+// Result is the outcome of a batch detection.
+type Result struct {
+	Beats []Beat
+	// Gaps are the spans with no valid signal (NaN or infinite samples,
+	// clipped samples, flat lines), in seconds from the first sample,
+	// half-open [Start, End) at sample resolution. No beat lies inside a gap;
+	// learning restarts after each.
+	Gaps []window.Interval
+}
+
+// Detect finds the R-peaks of a single-lead ECG x sampled at rateHz with the
+// Pan-Tompkins algorithm (Pan and Tompkins 1985) at the signal's own rate,
+// for either polarity. NaN samples, clipped samples and flat lines are gaps.
+// It is exactly NewDetector, one Push of all of x, and Flush.
+func Detect(x []float64, rateHz float64, opt Options) (Result, error) {
+	if len(x) == 0 {
+		return Result{}, fmt.Errorf("ecg: detect: %w", ErrEmpty)
+	}
+	d, err := NewDetector(rateHz, opt)
+	if err != nil {
+		return Result{}, err
+	}
+	d.out = make([]Beat, 0, int(float64(len(x))/rateHz*3)+16)
+	b1, _ := d.Push(x)
+	b2, _ := d.Flush()
+	beats := append(b1, b2...)
+	return Result{Beats: beats, Gaps: d.TakeGaps()}, nil
+}
+
+// Detector is the streaming Pan-Tompkins detector. It shares its core with
+// Detect: for any chunking of a signal the beats are identical to those of
+// one batch call (guarded by a property test).
+//
+// Latency: a beat is returned by the Push that delivers the sample Latency()
+// seconds after its R-peak, or earlier. The bound is the flat-line look-ahead
+// (FlatS) plus the longest decision delay: the search-back limit (1.66 times
+// the RR average, the average capped at 2 s, so 3.32 s) or the learning phase,
+// whichever is longer, plus the integrator, refractory and filter delays.
+// Typical first-pass beats come out FlatS + about 0.45 s after the R-peak.
+type Detector struct {
+	c   core
+	out []Beat
+}
+
+// NewDetector returns a streaming detector for rateHz.
+func NewDetector(rateHz float64, opt Options) (*Detector, error) {
+	if !(rateHz >= MinRateHz && rateHz <= MaxRateHz) {
+		return nil, fmt.Errorf("ecg: rate %v Hz: %w", rateHz, ErrRate)
+	}
+	o, err := opt.withDefaults()
+	if err != nil {
+		return nil, err
+	}
+	d := &Detector{}
+	if err := d.c.init(rateHz, o); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// Push feeds the next chunk of samples and returns the beats that became
+// final. The returned slice is freshly allocated and owned by the caller.
+func (d *Detector) Push(chunk []float64) ([]Beat, error) {
+	if d.c.closed {
+		return nil, fmt.Errorf("ecg: push: %w", ErrClosed)
+	}
+	d.c.emit = d.out[:0]
+	for _, v := range chunk {
+		d.c.push(v)
+	}
+	return d.take(), nil
+}
+
+// Flush ends the signal and returns the remaining beats. The detector cannot
+// be used after Flush.
+func (d *Detector) Flush() ([]Beat, error) {
+	if d.c.closed {
+		return nil, fmt.Errorf("ecg: flush: %w", ErrClosed)
+	}
+	d.c.emit = d.out[:0]
+	d.c.flush()
+	return d.take(), nil
+}
+
+func (d *Detector) take() []Beat {
+	b := d.c.emit
+	d.c.emit = nil
+	d.out = nil
+	if len(b) == 0 {
+		return nil
+	}
+	return b
+}
+
+// TakeGaps returns the gaps closed so far (seconds from the first sample)
+// and forgets them, so a long-running stream holds no growing list.
+func (d *Detector) TakeGaps() []window.Interval {
+	g := d.c.gaps
+	d.c.gaps = nil
+	return g
+}
+
+// Latency returns the bound, in seconds, between a beat's R-peak and the end
+// of the chunk that returns it.
+func (d *Detector) Latency() float64 {
+	return float64(d.c.latencyN) / d.c.fs
+}
+
+// candidate is a finalised peak of the integrated signal with everything the
+// decision logic needs, measured while the buffers still hold it.
+type candidate struct {
+	k        int     // MWI peak index
+	peakI    float64 // integrator value
+	peakF    float64 // largest |band-passed| in the QRS window
+	slope    float64 // largest |derivative| in the QRS window
+	posIdx   int     // argmax of the conditioned signal in the R window
+	negIdx   int     // argmin
+	posV     float64
+	negV     float64
+	posFrac  float64 // parabolic offsets (0 at >= 250 Hz)
+	negFrac  float64
+	twave    bool
+	searched bool
+}
+
+// core is the one Pan-Tompkins implementation, fed sample by sample.
+type core struct {
+	fs  float64
+	opt Options
+	ch  chain
+
+	cond, band *dsp.Filter
+
+	// Validity stage: a delay line of flatN samples so flat runs are known
+	// before their samples reach the detector.
+	flatN   int
+	dl      []float64
+	dlBad   []bool
+	in      int // samples received
+	prev    float64
+	prevOK  bool
+	runLen  int
+	runBad  bool
+	clipSet bool
+
+	// Detector state.
+	n        int // index of the sample being processed
+	mask     int
+	cbuf     []float64
+	fbuf     []float64
+	dbuf     []float64
+	sbuf     []float64
+	mbuf     []float64
+	sum      float64
+	intN     int
+	refN     int
+	twN      int
+	learnN   int
+	rWin     int
+	latencyN int
+	interp   bool
+
+	inGap    bool
+	gapStart int
+	seg      int // first sample of the current segment
+	learned  bool
+	lmaxM    float64
+	lsumM    float64
+	lmaxF    float64
+	lsumF    float64
+	queue    []candidate // candidates awaiting the end of learning
+	pending  bool
+	pk       int
+	pv       float64
+	spki     float64
+	npki     float64
+	spkf     float64
+	npkf     float64
+	noise    []candidate // noise candidates since the last QRS (search-back pool)
+	haveLast bool
+	lastK    int
+	lastR    int
+	lastSlp  float64
+	sbRef    int
+	rr1, rr2 rrRing
+	polVote  float64
+	polSet   bool
+
+	gaps   []window.Interval
+	emit   []Beat
+	closed bool
+}
+
+// rrRing keeps the 8 most recent RR intervals (samples).
+type rrRing struct {
+	v   [8]float64
+	n   int
+	pos int
+}
+
+func (r *rrRing) add(x float64) {
+	r.v[r.pos] = x
+	r.pos = (r.pos + 1) % 8
+	if r.n < 8 {
+		r.n++
+	}
+}
+
+func (r *rrRing) mean() float64 {
+	s := 0.0
+	for i := 0; i < r.n; i++ {
+		s += r.v[i]
+	}
+	return s / float64(r.n)
+}
+
+func (c *core) init(fs float64, o Options) error {
+	ch, err := design(fs, o)
+	if err != nil {
+		return err
+	}
+	c.fs, c.opt, c.ch = fs, o, ch
+	c.cond, c.band = ch.cond.NewFilter(), ch.band.NewFilter()
+	c.flatN = max(2, int(math.Round(o.FlatS*fs)))
+	c.dl = make([]float64, c.flatN+1)
+	c.dlBad = make([]bool, c.flatN+1)
+	c.clipSet = o.ClipHighmV > o.ClipLowmV
+	c.intN = max(1, int(math.Round(o.IntegrationS*fs)))
+	c.refN = max(1, int(math.Round(o.RefractoryS*fs)))
+	c.twN = int(math.Round(o.TWaveS * fs))
+	c.learnN = max(1, int(math.Round(o.LearningS*fs)))
+	c.rWin = max(2, int(math.Round(0.075*fs)))
+	c.interp = fs < 250
+	need := c.refN + c.intN + ch.bandDelay + 2*c.rWin + 16
+	size := 1
+	for size < need {
+		size <<= 1
+	}
+	c.mask = size - 1
+	c.cbuf = make([]float64, size)
+	c.fbuf = make([]float64, size)
+	c.dbuf = make([]float64, size)
+	c.sbuf = make([]float64, size)
+	c.mbuf = make([]float64, size)
+	missedMax := int(math.Ceil(1.66 * 2.0 * fs))
+	c.latencyN = c.flatN + max(missedMax+c.refN, c.learnN) + c.intN + c.refN + ch.bandDelay + c.rWin + 4
+	c.inGap = true // nothing seen yet: the first valid sample starts a segment
+	c.gapStart = 0
+	return nil
+}
+
+// push runs the validity stage on one incoming sample.
+func (c *core) push(x float64) {
+	i := c.in
+	c.in++
+	bad := math.IsNaN(x) || math.IsInf(x, 0) || (c.clipSet && (x >= c.opt.ClipHighmV || x <= c.opt.ClipLowmV))
+	L := len(c.dl)
+	if !bad && c.prevOK && x == c.prev {
+		c.runLen++
+	} else {
+		c.runLen = 1
+	}
+	c.prev, c.prevOK = x, !bad
+	if c.runLen == c.flatN {
+		// The run just became a flat line: mark its earlier samples, which
+		// are all still in the delay line.
+		for j := i - c.flatN + 1; j < i; j++ {
+			c.dlBad[j%L] = true
+		}
+	}
+	if c.runLen >= c.flatN {
+		bad = true
+	}
+	if i >= c.flatN {
+		j := i - c.flatN
+		c.step(c.dl[j%L], c.dlBad[j%L])
+	}
+	c.dl[i%L] = x
+	c.dlBad[i%L] = bad
+}
+
+func (c *core) flush() {
+	L := len(c.dl)
+	for j := max(0, c.in-c.flatN); j < c.in; j++ {
+		c.step(c.dl[j%L], c.dlBad[j%L])
+	}
+	c.endSegment()
+	if c.inGap && c.n > c.gapStart {
+		c.gaps = append(c.gaps, window.Interval{Start: float64(c.gapStart) / c.fs, End: float64(c.n) / c.fs})
+	}
+	c.closed = true
+}
+
+// endSegment finishes the current segment (at a gap or the end).
+func (c *core) endSegment() {
+	if c.inGap {
+		return
+	}
+	if c.pending {
+		c.finalize(c.pk, c.pv)
+		c.pending = false
+	}
+}
+
+// step processes sample c.n.
+func (c *core) step(x float64, bad bool) {
+	n := c.n
+	c.n++
+	if bad {
+		if !c.inGap {
+			c.endSegment()
+			c.inGap = true
+			c.gapStart = n
+		}
+		return
+	}
+	if c.inGap {
+		if n > c.gapStart {
+			c.gaps = append(c.gaps, window.Interval{Start: float64(c.gapStart) / c.fs, End: float64(n) / c.fs})
+		}
+		c.startSegment(n, x)
+	}
+	m := c.mask
+	cv := c.cond.Step(x)
+	fv := c.band.Step(cv)
+	c.cbuf[n&m] = cv
+	c.fbuf[n&m] = fv
+	// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise 12.14);
+	// samples before the segment start are zero (ring cleared at start).
+	dv := (2*fv + c.fbuf[(n-1)&m] - c.fbuf[(n-3)&m] - 2*c.fbuf[(n-4)&m]) * (c.fs / 8)
+	c.dbuf[n&m] = dv
+	sv := dv * dv
+	c.sum += sv - c.sbuf[(n-c.intN)&m]
+	if c.sum < 0 {
+		c.sum = 0
+	}
+	c.sbuf[n&m] = sv
+	mv := c.sum / float64(c.intN)
+	c.mbuf[n&m] = mv
+
+	if !c.learned {
+		c.lmaxM = math.Max(c.lmaxM, mv)
+		c.lsumM += mv
+		af := math.Abs(fv)
+		c.lmaxF = math.Max(c.lmaxF, af)
+		c.lsumF += af
+		if n-c.seg+1 >= c.learnN {
+			c.finishLearning()
+		}
+	}
+
+	// Peak finding on the integrator: a local maximum at n-1; peaks closer
+	// than the refractory period are merged, keeping the larger.
+	if c.pending && n-1-c.pk > c.refN {
+		c.finalize(c.pk, c.pv)
+		c.pending = false
+	}
+	if n-2 >= c.seg {
+		a, b := c.mbuf[(n-2)&m], c.mbuf[(n-1)&m]
+		if b > a && b >= mv {
+			if !c.pending {
+				c.pending, c.pk, c.pv = true, n-1, b
+			} else if b > c.pv {
+				c.pk, c.pv = n-1, b
+			}
+		}
+	}
+	// Search-back: nothing found within 166 % of RR average 2.
+	// It waits a refractory period more, so every candidate up to the limit
+	// has been finalised and pooled.
+	if c.learned && n-c.sbRef > c.missedLimit()+c.refN+2 {
+		c.searchBack(n)
+	}
+}
+
+func (c *core) startSegment(n int, x float64) {
+	c.inGap = false
+	c.seg = n
+	c.cond.Reset(x)
+	c.band.Reset(0)
+	for i := range c.fbuf {
+		c.fbuf[i], c.sbuf[i], c.mbuf[i], c.cbuf[i], c.dbuf[i] = 0, 0, 0, 0, 0
+	}
+	c.sum = 0
+	c.learned = false
+	c.lmaxM, c.lsumM, c.lmaxF, c.lsumF = 0, 0, 0, 0
+	c.queue = c.queue[:0]
+	c.noise = c.noise[:0]
+	c.pending = false
+	c.haveLast = false
+	c.rr1, c.rr2 = rrRing{}, rrRing{}
+}
+
+// finishLearning initialises the thresholds from the learning phase: signal
+// peaks at a third of the largest value seen and noise at half the mean
+// (common practice; Pan and Tompkins 1985 describe a 2 s learning phase
+// without fixing these fractions, from memory).
+func (c *core) finishLearning() {
+	nl := float64(c.n - c.seg)
+	c.spki = c.lmaxM / 3
+	c.npki = c.lsumM / nl / 2
+	c.spkf = c.lmaxF / 3
+	c.npkf = c.lsumF / nl / 2
+	c.learned = true
+	c.sbRef = c.seg
+	q := c.queue
+	c.queue = c.queue[:0]
+	for _, cd := range q {
+		c.classify(cd)
+	}
+}
+
+// missedLimit returns 166 % of RR average 2 in samples (Pan and Tompkins
+// 1985, RR MISSED LIMIT), the average capped at 2 s; 1.66 s when no RR is
+// known yet (an assumed 60 bpm, common practice).
+func (c *core) missedLimit() int {
+	avg := c.fs
+	if c.rr2.n > 0 {
+		avg = math.Min(c.rr2.mean(), 2*c.fs)
+	}
+	return int(1.66 * avg)
+}
+
+// finalize measures a merged integrator peak at index k.
+func (c *core) finalize(k int, v float64) {
+	m := c.mask
+	cd := candidate{k: k, peakI: v}
+	// The QRS energy behind an integrator peak lies in the integration
+	// window ending at k, shifted by the derivative's 2-sample delay.
+	lo := max(c.seg, k-c.intN-2)
+	fpos := k
+	for j := lo; j <= k; j++ {
+		af := math.Abs(c.fbuf[j&m])
+		if af > cd.peakF {
+			cd.peakF, fpos = af, j
+		}
+		if ad := math.Abs(c.dbuf[j&m]); ad > cd.slope {
+			cd.slope = ad
+		}
+	}
+	// R window on the conditioned signal: centred on the band-pass maximum
+	// minus the band-pass group delay, +/- 75 ms.
+	ctr := fpos - c.ch.bandDelay + 2
+	a := max(c.seg, ctr-c.rWin)
+	b := min(c.n-1, ctr+c.rWin)
+	if b < a {
+		a, b = ctr, ctr
+		if a < c.seg {
+			a, b = c.seg, c.seg
+		}
+	}
+	cd.posIdx, cd.negIdx = a, a
+	cd.posV, cd.negV = c.cbuf[a&m], c.cbuf[a&m]
+	for j := a + 1; j <= b; j++ {
+		v := c.cbuf[j&m]
+		if v > cd.posV {
+			cd.posV, cd.posIdx = v, j
+		}
+		if v < cd.negV {
+			cd.negV, cd.negIdx = v, j
+		}
+	}
+	if c.interp {
+		cd.posFrac = c.parabola(cd.posIdx, 1)
+		cd.negFrac = c.parabola(cd.negIdx, -1)
+	}
+	if !c.learned {
+		c.queue = append(c.queue, cd)
+		return
+	}
+	c.classify(cd)
+}
+
+// parabola returns the sub-sample offset of the extremum at j of s*cond by a
+// parabola through three samples (common practice; methods reference 1.3).
+func (c *core) parabola(j int, s float64) float64 {
+	if j-1 < c.seg || j+1 >= c.n {
+		return 0
+	}
+	m := c.mask
+	y0, y1, y2 := s*c.cbuf[(j-1)&m], s*c.cbuf[j&m], s*c.cbuf[(j+1)&m]
+	den := y0 - 2*y1 + y2
+	if den >= 0 {
+		return 0
+	}
+	off := 0.5 * (y0 - y2) / den
+	if off > 0.5 || off < -0.5 {
+		return 0
+	}
+	return off
+}
+
+// thresholds returns the first thresholds on the integrated and filtered
+// signals (Pan and Tompkins 1985), halved when the rhythm is irregular.
+func (c *core) thresholds() (ti1, tf1 float64) {
+	ti1 = c.npki + 0.25*(c.spki-c.npki)
+	tf1 = c.npkf + 0.25*(c.spkf-c.npkf)
+	if c.irregular() {
+		ti1 *= 0.5
+		tf1 *= 0.5
+	}
+	return ti1, tf1
+}
+
+// irregular reports whether any of the 8 most recent RR intervals lies
+// outside 92..116 % of RR average 2 (the complement of the "regular" test of
+// Pan and Tompkins 1985, as restated in TB2 p. 255).
+func (c *core) irregular() bool {
+	if c.rr1.n == 0 || c.rr2.n == 0 {
+		return false
+	}
+	avg2 := c.rr2.mean()
+	lo, hi := 0.92*avg2, 1.16*avg2
+	for i := 0; i < c.rr1.n; i++ {
+		if c.rr1.v[i] < lo || c.rr1.v[i] > hi {
+			return true
+		}
+	}
+	return false
+}
+
+// classify applies the first-pass decision to a candidate.
+func (c *core) classify(cd candidate) {
+	if c.haveLast && cd.k-c.lastK <= c.refN {
+		c.noisePeak(cd, false)
+		return
+	}
+	ti1, tf1 := c.thresholds()
+	if cd.peakI > ti1 && cd.peakF > tf1 {
+		if c.haveLast && cd.k-c.lastK < c.twN && cd.slope < 0.5*c.lastSlp {
+			cd.twave = true
+			c.noisePeak(cd, false)
+			return
+		}
+		c.declare(cd, false)
+		return
+	}
+	c.noisePeak(cd, true)
+}
+
+func (c *core) noisePeak(cd candidate, pool bool) {
+	c.npki = 0.125*cd.peakI + 0.875*c.npki
+	c.npkf = 0.125*cd.peakF + 0.875*c.npkf
+	if pool && !cd.twave {
+		// Bounded: the pool is cleared at every search-back, which happens at
+		// most 1.66 * 2 s after its reference; candidates are >= 200 ms apart.
+		c.noise = append(c.noise, cd)
+	}
+}
+
+// searchBack takes the largest pooled noise peak above the second thresholds
+// (half the first) as a QRS, updating the signal levels twice as fast
+// (Pan and Tompkins 1985).
+func (c *core) searchBack(n int) {
+	ti1, tf1 := c.thresholds()
+	ti2, tf2 := 0.5*ti1, 0.5*tf1
+	best := -1
+	for i, cd := range c.noise {
+		if c.haveLast && cd.k-c.lastK <= c.refN {
+			continue
+		}
+		if cd.peakI > ti2 && cd.peakF > tf2 && (best < 0 || cd.peakI > c.noise[best].peakI) {
+			best = i
+		}
+	}
+	if best < 0 {
+		c.noise = c.noise[:0]
+		c.sbRef = n
+		return
+	}
+	rest := append([]candidate(nil), c.noise[best+1:]...)
+	cd := c.noise[best]
+	cd.searched = true
+	c.declare(cd, true)
+	for _, r := range rest {
+		c.classify(r)
+	}
+}
+
+// declare accepts a candidate as a QRS complex.
+func (c *core) declare(cd candidate, sb bool) {
+	if sb {
+		c.spki = 0.25*cd.peakI + 0.75*c.spki
+		c.spkf = 0.25*cd.peakF + 0.75*c.spkf
+	} else {
+		c.spki = 0.125*cd.peakI + 0.875*c.spki
+		c.spkf = 0.125*cd.peakF + 0.875*c.spkf
+	}
+	// Polarity: a running vote of which deflection dominates each QRS.
+	pos := true
+	switch c.opt.Polarity {
+	case 1:
+	case -1:
+		pos = false
+	default:
+		vote := 0.0
+		if span := cd.posV - cd.negV; span > 0 {
+			vote = (cd.posV + cd.negV) / span // +1 all positive, -1 all negative
+		}
+		if !c.polSet {
+			c.polVote, c.polSet = vote, true
+		} else {
+			c.polVote = 0.9*c.polVote + 0.1*vote
+		}
+		pos = c.polVote >= 0
+	}
+	r, frac := cd.posIdx, cd.posFrac
+	if !pos {
+		r, frac = cd.negIdx, cd.negFrac
+	}
+	if c.haveLast && r-c.lastR > 0 {
+		c.addRR(float64(r - c.lastR))
+	}
+	c.haveLast = true
+	c.lastK, c.lastR, c.lastSlp = cd.k, r, cd.slope
+	c.sbRef = cd.k
+	c.noise = c.noise[:0]
+	c.emit = append(c.emit, Beat{
+		Sample:      r,
+		Time:        (float64(r) + frac) / c.fs,
+		AmplitudemV: cd.posV - cd.negV,
+		SearchBack:  sb,
+	})
+}
+
+// addRR updates the two RR averages (Pan and Tompkins 1985): average 1 over
+// the 8 most recent intervals, average 2 over the 8 most recent inside
+// 92..116 % of average 2. When all 8 recent intervals are inside the limits
+// the rhythm is regular and average 2 takes the recent intervals; when all 8
+// are outside (a lasting rate change the limits cannot follow) average 2 is
+// likewise re-anchored on them (our addition, so it cannot stay stuck).
+func (c *core) addRR(rr float64) {
+	c.rr1.add(rr)
+	if c.rr2.n == 0 {
+		c.rr2.add(rr)
+		return
+	}
+	avg2 := c.rr2.mean()
+	lo, hi := 0.92*avg2, 1.16*avg2
+	if rr >= lo && rr <= hi {
+		c.rr2.add(rr)
+	}
+	if c.rr1.n == 8 {
+		in := 0
+		for i := 0; i < 8; i++ {
+			if c.rr1.v[i] >= lo && c.rr1.v[i] <= hi {
+				in++
+			}
+		}
+		if in == 8 || in == 0 {
+			c.rr2 = c.rr1
+		}
+	}
+}
