@@ -38,7 +38,7 @@ import (
 // bilinear-transform design of a second-order band-stop (common practice).
 func notch(f0, bw, fs float64) dsp.Biquad {
 	w0 := 2 * math.Pi * f0 / fs
-	alpha := math.Tan(math.Pi*bw/fs) // bilinear-warped half-bandwidth
+	alpha := math.Tan(math.Pi * bw / fs) // bilinear-warped half-bandwidth
 	a0 := 1 + alpha
 	c := math.Cos(w0)
 	return dsp.Biquad{
