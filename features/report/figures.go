@@ -26,24 +26,25 @@ const (
 const maxPoints = 5000
 
 var (
-	colLine    = color.RGBA{R: 0x1f, G: 0x4e, B: 0x79, A: 0xff}
-	colMark    = color.RGBA{R: 0xc0, G: 0x1c, B: 0x28, A: 0xff}
-	colAlt     = color.RGBA{R: 0x2e, G: 0x7d, B: 0x32, A: 0xff}
-	colGap     = color.RGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x50}
-	colEvent   = color.RGBA{R: 0xe6, G: 0x7e, B: 0x22, A: 0x60}
-	colLabel   = color.RGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x22}
+	colLine    = color.NRGBA{R: 0x1f, G: 0x4e, B: 0x79, A: 0xff}
+	colMark    = color.NRGBA{R: 0xc0, G: 0x1c, B: 0x28, A: 0xff}
+	colAlt     = color.NRGBA{R: 0x2e, G: 0x7d, B: 0x32, A: 0xff}
+	colGap     = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x50}
+	colEvent   = color.NRGBA{R: 0xe6, G: 0x7e, B: 0x22, A: 0x60}
+	colLabel   = color.NRGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x22}
 	bandColors = []color.Color{
-		color.RGBA{R: 0xb0, G: 0xb0, B: 0xb0, A: 0x50},
-		color.RGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x50},
-		color.RGBA{R: 0x66, G: 0xbb, B: 0x6a, A: 0x50},
-		color.RGBA{R: 0xff, G: 0xb7, B: 0x4d, A: 0x50},
+		color.NRGBA{R: 0xb0, G: 0xb0, B: 0xb0, A: 0x50},
+		color.NRGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x50},
+		color.NRGBA{R: 0x66, G: 0xbb, B: 0x6a, A: 0x50},
+		color.NRGBA{R: 0xff, G: 0xb7, B: 0x4d, A: 0x50},
 	}
 )
 
 // figure is one rendered SVG with its caption.
 type figure struct {
 	ID, Title, Caption string
-	SVG                []byte
+	w, h               vg.Length
+	plots              []*plot.Plot // stacked vertically, sharing the width
 }
 
 // spans fills vertical bands over the whole height of the data area.
@@ -180,8 +181,8 @@ func newPlot(title, xlabel, ylabel string) *plot.Plot {
 	return p
 }
 
-// render draws plots stacked vertically into one SVG.
-func render(w, h vg.Length, plots ...*plot.Plot) (out []byte, err error) {
+// render draws the figure's plots stacked vertically onto c.
+func (f figure) render(c vg.CanvasSizer) (err error) {
 	defer func() {
 		// gonum/plot panics on some degenerate inputs (for example a tiling
 		// that does not fit); a report must fail with an error instead.
@@ -189,8 +190,8 @@ func render(w, h vg.Length, plots ...*plot.Plot) (out []byte, err error) {
 			err = fmt.Errorf("%w: drawing figure: %v", ErrInput, r)
 		}
 	}()
-	c := vgsvg.New(w, h)
 	dc := draw.New(c)
+	plots := f.plots
 	if len(plots) == 1 {
 		plots[0].Draw(dc)
 	} else {
@@ -203,6 +204,15 @@ func render(w, h vg.Length, plots ...*plot.Plot) (out []byte, err error) {
 		for i, p := range plots {
 			p.Draw(canv[i][0])
 		}
+	}
+	return nil
+}
+
+// svg renders the figure as an inline SVG element.
+func (f figure) svg() ([]byte, error) {
+	c := vgsvg.New(f.w, f.h)
+	if err := f.render(c); err != nil {
+		return nil, err
 	}
 	var buf bytes.Buffer
 	if _, err := c.WriteTo(&buf); err != nil {
@@ -253,9 +263,8 @@ func figTachogram(in *Input) (figure, error) {
 		f.Caption = fmt.Sprintf("%d intervals; %d corrected (red crosses). Grey: no usable ECG; orange: windows of low ECG quality; blue: labelled segments.",
 			len(b.RRms), len(cx))
 	}
-	svg, err := render(figW, figH, p)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = figW, figH, []*plot.Plot{p}
+	return f, nil
 }
 
 func scaleSpans(s []Span, k float64) []Span {
@@ -320,9 +329,8 @@ func figPSD(in *Input) (figure, error) {
 			f.Caption += " " + joinComma(bp) + "."
 		}
 	}
-	svg, err := render(figW, figH, p)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = figW, figH, []*plot.Plot{p}
+	return f, nil
 }
 
 func joinComma(s []string) string {
@@ -372,9 +380,8 @@ func figPoincare(in *Input) (figure, error) {
 		}
 		f.Caption += "; grey line: identity."
 	}
-	svg, err := render(6*vg.Inch, 6*vg.Inch, p)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = 6*vg.Inch, 6*vg.Inch, []*plot.Plot{p}
+	return f, nil
 }
 
 func minOf(v []float64) float64 {
@@ -442,9 +449,8 @@ func figBreathing(in *Input) (figure, error) {
 		f.Caption = fmt.Sprintf("%.0f-%.0f s: %d end-inspiration peaks (red), %d end-expiration troughs (green), %d candidate events (orange). %s",
 			b.T0S, t1, len(px), len(tx), nev, b.Note)
 	}
-	svg, err := render(figW, figH, p)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = figW, figH, []*plot.Plot{p}
+	return f, nil
 }
 
 // figVentilation: minute ventilation and breathing rate per window.
@@ -475,9 +481,8 @@ func figVentilation(in *Input) (figure, error) {
 		}
 		f.Caption = fmt.Sprintf("%d windows; orange: candidate apnea/hypopnea events; blue: labelled segments.", len(tr.TimeS))
 	}
-	svg, err := render(figW, 2*figH, pv, pr)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = figW, 2*figH, []*plot.Plot{pv, pr}
+	return f, nil
 }
 
 // figActivity: ENMO/MAD, posture and steps per epoch.
@@ -543,9 +548,8 @@ func figActivity(in *Input) (figure, error) {
 		}
 		f.Caption = fmt.Sprintf("%d epochs of %.0f s; ENMO (blue) and MAD (red) in mg; %.0f steps in all.", len(a.TimeS), a.EpochS, total)
 	}
-	svg, err := render(figW, 2.6*figH, pa, pp, ps)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = figW, 2.6*figH, []*plot.Plot{pa, pp, ps}
+	return f, nil
 }
 
 func postureNames(p []string) []string {
@@ -590,19 +594,18 @@ func figQuality(in *Input) (figure, error) {
 		p.Y.Min, p.Y.Max = -0.5, float64(len(in.Quality))-0.5
 		f.Caption = fmt.Sprintf("%d windows over %d families. Score 1 is best; a window below its minimum coverage scores 0.", nw, len(in.Quality))
 	}
-	svg, err := render(figW, vg.Length(1.2+0.45*float64(max(1, len(in.Quality))))*vg.Inch, p)
-	f.SVG = svg
-	return f, err
+	f.w, f.h, f.plots = figW, vg.Length(1.2+0.45*float64(max(1, len(in.Quality))))*vg.Inch, []*plot.Plot{p}
+	return f, nil
 }
 
 // qualityColor maps a score in [0,1] from red through yellow to green.
 func qualityColor(s float64) color.Color {
 	if !isFinite(s) {
-		return color.RGBA{R: 0xc8, G: 0xc8, B: 0xc8, A: 0xff}
+		return color.NRGBA{R: 0xc8, G: 0xc8, B: 0xc8, A: 0xff}
 	}
 	s = math.Max(0, math.Min(1, s))
 	if s < 0.5 {
-		return color.RGBA{R: 0xd7, G: uint8(0x30 + s*2*(0xc0-0x30)), B: 0x27, A: 0xff}
+		return color.NRGBA{R: 0xd7, G: uint8(0x30 + s*2*(0xc0-0x30)), B: 0x27, A: 0xff}
 	}
-	return color.RGBA{R: uint8(0xd7 - (s-0.5)*2*(0xd7-0x1a)), G: uint8(0xc0 - (s-0.5)*2*(0xc0-0x98)), B: 0x27 + uint8((s-0.5)*2*0x23), A: 0xff}
+	return color.NRGBA{R: uint8(0xd7 - (s-0.5)*2*(0xd7-0x1a)), G: uint8(0xc0 - (s-0.5)*2*(0xc0-0x98)), B: 0x27 + uint8((s-0.5)*2*0x23), A: 0xff}
 }
