@@ -1,0 +1,91 @@
+package recording
+
+import (
+	"strings"
+	"unicode"
+)
+
+// GuessRole guesses a channel's role from its name and unit. The rules are
+// common practice for channel labels in PhysioNet, EDF and wearable exports:
+//
+//   - ECG: names starting with ECG or EKG, the limb and augmented leads
+//     (I, II, III, aVR, aVL, aVF), modified limb leads (MLI, MLII, MLIII) and
+//     precordial leads (V1...V6, V), or any name containing "ecg".
+//   - rib-cage band: names with "chest", "thorax", "thor", "rib", "rc" as a
+//     word, or "resp" with "chest"/"thor".
+//   - abdominal band: names with "abdo", "abd", "abdomen", "ab" as a word.
+//   - accelerometer: acc_x, accx, "acc x", x_acc, accel_x, ax (and y, z).
+//   - SpO2: names containing "spo2", "sao2" or "oxygen saturation".
+//
+// Anything else is RoleUnknown. The unit breaks ties only for ECG leads named
+// by a bare lead letter, which must be in a voltage unit.
+func GuessRole(name, unit string) Role {
+	n := strings.ToLower(strings.TrimSpace(name))
+	words := strings.FieldsFunc(n, func(r rune) bool { return !unicode.IsLetter(r) && !unicode.IsDigit(r) })
+	has := func(w string) bool {
+		for _, x := range words {
+			if x == w {
+				return true
+			}
+		}
+		return false
+	}
+	compact := strings.Join(words, "")
+	switch {
+	case strings.Contains(n, "spo2") || strings.Contains(n, "sao2") || strings.Contains(n, "oxygen saturation"):
+		return RoleSpO2
+	case strings.Contains(n, "ecg") || strings.Contains(n, "ekg"):
+		return RoleECG
+	}
+	if r, ok := accRole(words, compact); ok {
+		return r
+	}
+	switch {
+	case strings.Contains(n, "abdo") || has("abd") || has("ab") || strings.Contains(n, "abdomen"):
+		return RoleAbdomen
+	case strings.Contains(n, "chest") || strings.Contains(n, "thor") || strings.Contains(n, "rib") || has("rc"):
+		return RoleRibCage
+	}
+	if len(words) == 1 && isLeadName(words[0]) {
+		u := strings.ToLower(strings.TrimSpace(unit))
+		if u == "" || strings.HasSuffix(u, "v") {
+			return RoleECG
+		}
+	}
+	return RoleUnknown
+}
+
+func isLeadName(w string) bool {
+	switch w {
+	case "i", "ii", "iii", "avr", "avl", "avf", "mli", "mlii", "mliii", "v", "v1", "v2", "v3", "v4", "v5", "v6", "ml", "lead":
+		return true
+	}
+	return false
+}
+
+// accRole recognises accelerometer axis labels.
+func accRole(words []string, compact string) (Role, bool) {
+	axis := func(c byte) (Role, bool) {
+		switch c {
+		case 'x':
+			return RoleAccX, true
+		case 'y':
+			return RoleAccY, true
+		case 'z':
+			return RoleAccZ, true
+		}
+		return RoleUnknown, false
+	}
+	for _, pre := range []string{"accelerometer", "acceleration", "accel", "acc"} {
+		if strings.HasPrefix(compact, pre) && len(compact) == len(pre)+1 {
+			return axis(compact[len(pre)])
+		}
+		if strings.HasSuffix(compact, pre) && len(compact) == len(pre)+1 {
+			return axis(compact[0])
+		}
+	}
+	if len(words) == 1 && len(compact) == 2 && compact[0] == 'a' {
+		return axis(compact[1])
+	}
+	return RoleUnknown, false
+}
