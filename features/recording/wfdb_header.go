@@ -243,7 +243,11 @@ func parseWFDBTime(s string) (time.Duration, error) {
 			v = x
 		} else {
 			x, err := strconv.Atoi(p)
-			if err != nil || x < 0 || x > 99 {
+			limit := 60 // minutes
+			if len(parts)-1-i == 2 {
+				limit = 24 // hours
+			}
+			if err != nil || x < 0 || x >= limit {
 				return 0, ErrHeader
 			}
 			v = float64(x)
