@@ -384,35 +384,99 @@ func dayBeats(k dayKinetics, breaths []DayBreath, apneas []DayInterval, dur floa
 	return out
 }
 
-// daySteps lays out foot strikes at the cadence of each moving second, with
-// 2 % stride-time jitter.
-func daySteps(k dayKinetics, dur float64, rng *rand.Rand) []float64 {
-	var out []float64
-	t := 0.0
-	for t < dur {
-		c := k.cadence[int(t)]
-		if c <= 0 {
-			t = math.Floor(t) + 1
-			continue
+// dayAccelSegments turns the schedule into the accelerometer simulator's
+// segments: still upright at rest (sitting), running in the warm-up and the
+// intervals (hard repeats at their own cadence), walking in the cool-down,
+// and lying in the nap (on the back, then on the left side).
+func dayAccelSegments(segs []DaySegment) []AccelSegment {
+	var out []AccelSegment
+	add := func(a AccelActivity, from, to, cad float64) {
+		if to > from {
+			out = append(out, AccelSegment{Activity: a, DurationS: to - from, CadenceSPM: cad})
 		}
-		out = append(out, t)
-		t += 60 / c * (1 + 0.02*rng.NormFloat64())
+	}
+	for _, s := range segs {
+		switch {
+		case s.Posture == DaySupine:
+			add(AccelSupine, s.StartS, math.Min(s.EndS, DayLeftSideFrom), 0)
+			add(AccelLeft, math.Max(s.StartS, DayLeftSideFrom), s.EndS, 0)
+		case s.CadenceSPM == 0:
+			add(AccelSitting, s.StartS, s.EndS, 0)
+		default:
+			act := AccelRunning
+			if s.CadenceSPM < 130 {
+				act = AccelWalking // below ~130 steps/min people walk (common practice)
+			}
+			t := s.StartS
+			for _, w := range s.Work {
+				add(act, t, s.StartS+w.StartS, s.CadenceSPM)
+				add(AccelRunning, s.StartS+w.StartS, s.StartS+w.EndS, s.Hard.CadenceSPM)
+				t = s.StartS + w.EndS
+			}
+			add(act, t, s.EndS, s.CadenceSPM)
+		}
 	}
 	return out
 }
 
-// dayEvents builds the event-level ground truth of the scenario.
+// dayEvents builds the beat and breath ground truth of the scenario.
 func dayEvents(seed uint64) DayTruth {
 	segs := DaySchedule()
 	rng := rand.New(rand.NewPCG(seed, 0x7d1a1bea7))
 	k := newKinetics(segs, DayDurationS)
 	breaths := dayBreaths(k, DayApneas, DayDurationS, rng)
 	beats := dayBeats(k, breaths, DayApneas, DayDurationS, rng)
-	steps := daySteps(k, DayDurationS, rng)
-	// Beats inside the lead-off gap still happened, but no one can see them;
-	// keep them in the truth and mark the gap.
 	return DayTruth{
 		Segments: segs, Beats: beats, Breaths: breaths, Apneas: append([]DayInterval(nil), DayApneas...),
-		Steps: steps, LeadOff: []DayInterval{DayLeadOff}, Posture: k.posture[:int(DayDurationS)],
+		LeadOff: []DayInterval{DayLeadOff}, Posture: k.posture[:int(DayDurationS)],
 	}
+}
+
+// DayRecording is the simulated demo recording: plain sample slices from a
+// common start, and the ground truth they were made from.
+type DayRecording struct {
+	Start     time.Time // UTC time of sample 0 of every signal
+	DurationS float64
+	// ECG is a single lead in mV at DayECGRateHz, NaN in the lead-off gap.
+	ECG []float64
+	// RibCage and Abdomen are the inductance bands at DayBandRateHz, in
+	// arbitrary units (uncalibrated, as a real band delivers them).
+	RibCage, Abdomen []float64
+	// AccX, AccY, AccZ are the chest accelerometer axes at DayAccRateHz, g
+	// (device +y toward the head, +x toward the left, +z out of the chest).
+	AccX, AccY, AccZ []float64
+	Truth            DayTruth
+}
+
+// DaySimulate renders the scenario for a seed: the schedule drives the beat
+// and breath layout of this file, then ECGFromBeats (McSharry et al. 2003
+// waveform) and AccelSimulate turn events into signals. The bands are not
+// rendered yet (RibCage and Abdomen are nil) until the two-band breathing
+// simulator lands; the breath ground truth is complete. The same seed gives
+// identical output.
+func DaySimulate(seed uint64) (*DayRecording, error) {
+	tr := dayEvents(seed)
+	beats := make([]ECGBeat, len(tr.Beats))
+	for i, b := range tr.Beats {
+		beats[i] = ECGBeat{TimeS: b.TimeS, Kind: b.Kind}
+	}
+	ecgSig, err := ECGFromBeats(beats, ECGConfig{
+		RateHz: DayECGRateHz, DurationS: DayDurationS,
+		LeadOff:     []ECGInterval{{StartS: DayLeadOff.StartS, EndS: DayLeadOff.EndS}},
+		AmplitudemV: 1.2, NoisemV: 0.02, WandermV: 0.05, BreathHz: 0.2, Seed: seed,
+	})
+	if err != nil {
+		return nil, fmt.Errorf("sim: day ECG: %w", err)
+	}
+	acc, err := AccelSimulate(dayAccelSegments(tr.Segments), AccelConfig{RateHz: DayAccRateHz, Seed: seed})
+	if err != nil {
+		return nil, fmt.Errorf("sim: day accelerometer: %w", err)
+	}
+	tr.Steps = acc.Steps
+	return &DayRecording{
+		Start: DayStart, DurationS: DayDurationS,
+		ECG:  ecgSig.Samples,
+		AccX: acc.X, AccY: acc.Y, AccZ: acc.Z,
+		Truth: tr,
+	}, nil
 }

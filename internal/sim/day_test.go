@@ -86,14 +86,6 @@ func TestDayEventsFollowSchedule(t *testing.T) {
 			t.Errorf("apnea %v has no efforts", a)
 		}
 	}
-	// Steps: the count in each moving segment equals its cadence times its
-	// duration within 3 % (2 % stride jitter); none at rest or in the nap.
-	if n := tr.StepsIn(0, 480) + tr.StepsIn(3600, 7200); n != 0 {
-		t.Errorf("%d steps while resting or asleep", n)
-	}
-	if got, want := float64(tr.StepsIn(480, 1200)), 162.0*12; math.Abs(got-want) > 0.03*want {
-		t.Errorf("warm-up steps %v, want %v +- 3 %%", got, want)
-	}
 	// Ectopic beats: about one in 400.
 	nv := 0
 	for _, b := range tr.Beats {
@@ -120,4 +112,74 @@ func TestDayEventsDeterministic(t *testing.T) {
 	if len(c.Beats) == len(a.Beats) && c.Beats[100] == a.Beats[100] {
 		t.Error("different seeds gave the same beats")
 	}
+}
+
+// DaySimulate's signals have the scenario's lengths and rates, NaN exactly in
+// the lead-off gap, and steps only while moving: the warm-up's count equals
+// its cadence times its duration within 3 % (the accelerometer simulator's
+// 2 % stride jitter and its half-period margins at segment edges).
+func TestDaySimulate(t *testing.T) {
+	d, err := DaySimulate(1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := len(d.ECG), int(DayDurationS*DayECGRateHz); got != want {
+		t.Errorf("%d ECG samples, want %d", got, want)
+	}
+	for _, ax := range [][]float64{d.AccX, d.AccY, d.AccZ} {
+		if got, want := len(ax), int(DayDurationS*DayAccRateHz); got != want {
+			t.Errorf("%d accelerometer samples, want %d", got, want)
+		}
+	}
+	for i, v := range d.ECG {
+		ts := float64(i) / DayECGRateHz
+		inGap := ts >= DayLeadOff.StartS && ts < DayLeadOff.EndS
+		if math.IsNaN(v) != inGap {
+			t.Fatalf("ECG sample %d (%.3f s): NaN=%v, in gap=%v", i, ts, math.IsNaN(v), inGap)
+		}
+	}
+	tr := d.Truth
+	if n := tr.StepsIn(0, 480) + tr.StepsIn(3600, 7200); n != 0 {
+		t.Errorf("%d steps while resting or asleep", n)
+	}
+	if got, want := float64(tr.StepsIn(480, 1200)), 162.0*12; math.Abs(got-want) > 0.03*want {
+		t.Errorf("warm-up steps %v, want %v +- 3 %%", got, want)
+	}
+	// Gravity: upright at rest (+y), supine in the nap (+z), left side after
+	// DayLeftSideFrom (-x), as the mounting convention of package motion says.
+	mean := func(v []float64, from, to float64) float64 {
+		a, b := int(from*DayAccRateHz), int(to*DayAccRateHz)
+		s := 0.0
+		for _, x := range v[a:b] {
+			s += x
+		}
+		return s / float64(b-a)
+	}
+	if y := mean(d.AccY, 100, 400); y < 0.9 {
+		t.Errorf("rest: mean y %.2f g, want upright (> 0.9 g)", y)
+	}
+	if z := mean(d.AccZ, 4000, 5000); z < 0.9 {
+		t.Errorf("nap: mean z %.2f g, want supine (> 0.9 g)", z)
+	}
+	if x := mean(d.AccX, 6000, 7000); x > -0.9 {
+		t.Errorf("late nap: mean x %.2f g, want left side (< -0.9 g)", x)
+	}
+	d2, err := DaySimulate(1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range d.ECG {
+		if d.ECG[i] != d2.ECG[i] && !(math.IsNaN(d.ECG[i]) && math.IsNaN(d2.ECG[i])) {
+			t.Fatalf("ECG sample %d differs between runs with one seed", i)
+		}
+	}
+}
+
+func BenchmarkDaySimulate(b *testing.B) {
+	for b.Loop() {
+		if _, err := DaySimulate(1); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(DayDurationS*float64(b.N)/b.Elapsed().Seconds(), "sim_s/s")
 }
