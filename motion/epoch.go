@@ -2,7 +2,6 @@ package motion
 
 import (
 	"math"
-	"slices"
 	"strconv"
 	"time"
 
@@ -60,9 +59,9 @@ type Epoch struct {
 	// Samples is the number of valid samples inside.
 	Samples int
 	// Steps is the number of counted steps inside; CadenceSPM is 60 over
-	// the median interval between consecutive steps inside (intervals longer
-	// than StepOptions.MaxIntervalS excluded), steps/min, NaN without two
-	// such steps.
+	// the mean interval between consecutive steps inside (intervals longer
+	// than StepOptions.MaxIntervalS, the pauses between bouts, excluded),
+	// steps/min, NaN without two such steps.
 	Steps      int
 	CadenceSPM float64
 	// ENMOmg is the mean of max(0, |a| - 1 g) (van Hees et al. 2013) and
@@ -192,23 +191,21 @@ func Summarize(w window.Window, s []Sample, rateHz float64, opts Options) Epoch 
 	return e
 }
 
-// cadence is 60 / median step interval (s) over intervals up to maxS.
+// cadence is 60 / mean step interval (s) over intervals up to maxS. The mean
+// rather than the median, because at low rates intervals are whole samples
+// and a median would round the cadence to them.
 func cadence(idx []int, rateHz, maxS float64) float64 {
-	var iv []float64
+	sum, n := 0.0, 0
 	for k := 1; k < len(idx); k++ {
 		if d := float64(idx[k]-idx[k-1]) / rateHz; d <= maxS {
-			iv = append(iv, d)
+			sum += d
+			n++
 		}
 	}
-	if len(iv) == 0 {
+	if n == 0 {
 		return math.NaN()
 	}
-	slices.Sort(iv)
-	m := iv[len(iv)/2]
-	if len(iv)%2 == 0 {
-		m = (iv[len(iv)/2-1] + iv[len(iv)/2]) / 2
-	}
-	return 60 / m
+	return 60 * float64(n) / sum
 }
 
 // EpochsOf summarises a trace on the grid of spec placed at origin (the UTC
