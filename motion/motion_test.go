@@ -60,9 +60,9 @@ func TestENMOAndMADAnalytic(t *testing.T) {
 		enmo, mad  float64
 		tolE, tolM float64
 	}{
-		{"static 1 g", static(1), 0, 0, 1e-9, 1e-9},                 // derived
-		{"static 1.2 g", static(1.2), 200, 0, 1e-3, 1e-3},           // derived: 1000 (1.2 - 1)
-		{"static 0.8 g truncated", static(0.8), 0, 0, 1e-9, 1e-3},   // derived: max(0, 0.8 - 1)
+		{"static 1 g", static(1), 0, 0, 1e-9, 1e-9},               // derived
+		{"static 1.2 g", static(1.2), 200, 0, 1e-3, 1e-3},         // derived: 1000 (1.2 - 1)
+		{"static 0.8 g truncated", static(0.8), 0, 0, 1e-9, 1e-3}, // derived: max(0, 0.8 - 1)
 		{"vertical 0.1 g sine", func(t float64) (float64, float64, float64) { // derived: 0.1/pi g; MAD 2A/pi
 			return 0, 1 + 0.1*math.Sin(w*t), 0
 		}, 1000 * 0.1 / math.Pi, 1000 * 2 * 0.1 / math.Pi, 0.05, 0.1},
