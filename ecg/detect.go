@@ -161,7 +161,9 @@ func Detect(x []float64, rateHz float64, opt Options) (Result, error) {
 // (FlatS) plus the longest decision delay: the search-back limit (1.66 times
 // the RR average, the average capped at 2 s, so 3.32 s) or the learning phase,
 // whichever is longer, plus the integrator, refractory and filter delays.
-// Typical first-pass beats come out FlatS + about 0.45 s after the R-peak.
+// First-pass beats typically come out FlatS + about 0.3 s after the R-peak
+// (measured on MIT-BIH record 100: median 0.82 s, largest 2.3 s, bound 4.5 s
+// with the default options at 360 Hz).
 type Detector struct {
 	c   core
 	out []Beat
