@@ -216,7 +216,9 @@ func (c CountOptions) withDefaults() CountOptions {
 // minimum regular run (methods reference section 6.5, common practice, no
 // source). The defaults below were set from that common practice before the
 // detector was scored on the step-counter validation walks (package tests)
-// and were not tuned per walk or per carrying position.
+// and were not tuned per walk or per carrying position. Known limitation:
+// after hard running the adaptive threshold takes a few seconds to fall, so
+// the first few steps of a walk that follows a run can be missed.
 type StepOptions struct {
 	// LowHz and HighHz bound the Butterworth band-pass (order 2 each) applied
 	// to the vector magnitude. Defaults 0.5 and 3 Hz (common practice).

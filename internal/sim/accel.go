@@ -21,10 +21,10 @@ type AccelActivity int
 
 // Activities of an accelerometer schedule.
 const (
-	AccelSitting  AccelActivity = iota // upright, reclined 20°, still
+	AccelSitting  AccelActivity = iota // upright, reclined 10°, still
 	AccelStanding                      // upright, leaning 3° forward, still
 	AccelWalking                       // upright, leaning 5° forward, steps of 0.35 g
-	AccelRunning                       // upright, leaning 8° forward, steps of 1.4 g
+	AccelRunning                       // upright, leaning 8° forward, steps of 2 g
 	AccelSupine                        // lying on the back, head raised 10°
 	AccelProne                         // lying face down
 	AccelLeft                          // lying on the left side
@@ -63,7 +63,7 @@ func (a AccelActivity) gravity() [3]float64 {
 	deg := math.Pi / 180
 	switch a {
 	case AccelSitting:
-		return [3]float64{0, math.Cos(20 * deg), math.Sin(20 * deg)}
+		return [3]float64{0, math.Cos(10 * deg), math.Sin(10 * deg)}
 	case AccelStanding:
 		return [3]float64{0, math.Cos(3 * deg), -math.Sin(3 * deg)}
 	case AccelWalking:
@@ -88,7 +88,7 @@ func (a AccelActivity) stepAmp() float64 {
 	case AccelWalking:
 		return 0.35
 	case AccelRunning:
-		return 1.4
+		return 2
 	}
 	return 0
 }

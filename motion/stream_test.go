@@ -1,0 +1,85 @@
+package motion_test
+
+import (
+	"math"
+	"testing"
+	"time"
+
+	"github.com/google/go-cmp/cmp"
+	"github.com/google/go-cmp/cmp/cmpopts"
+	"github.com/tidalbeat/tidalbeat/internal/sim"
+	"github.com/tidalbeat/tidalbeat/motion"
+	"github.com/tidalbeat/tidalbeat/window"
+)
+
+// Property: the streaming driver gives the same epochs, steps and posture
+// changes as the batch convenience for any chunking (house rule: one core,
+// two drivers), including runs of invalid samples.
+func TestStreamMatchesBatchAnyChunking(t *testing.T) {
+	segs := []sim.AccelSegment{
+		{Activity: sim.AccelSitting, DurationS: 40},
+		{Activity: sim.AccelWalking, DurationS: 90, CadenceSPM: 112},
+		{Activity: sim.AccelRunning, DurationS: 60, CadenceSPM: 170},
+		{Activity: sim.AccelSupine, DurationS: 40},
+		{Activity: sim.AccelLeft, DurationS: 30},
+	}
+	rec, err := sim.AccelSimulate(segs, sim.AccelConfig{RateHz: 50, Seed: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	x, y, z := rec.X, rec.Y, rec.Z
+	for i := 3000; i < 3400; i++ { // 8 s dropout while walking
+		x[i], y[i], z[i] = math.NaN(), math.NaN(), math.NaN()
+	}
+	z[7000] = math.Inf(-1)
+	spec := window.Spec{Length: 10 * time.Second, Step: 5 * time.Second}
+	opts := motion.Options{}
+	tr, err := motion.Derive(x, y, z, 50, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := motion.EpochsOf(tr, origin, spec, nil, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tr.StepTimes) < 200 || len(tr.Changes) < 2 || len(want) < 50 {
+		t.Fatalf("batch run too thin to compare: %d steps, %d posture changes, %d epochs", len(tr.StepTimes), len(tr.Changes), len(want))
+	}
+	rng := newRand(11)
+	eq := cmpopts.EquateNaNs()
+	for trial := 0; trial < 12; trial++ {
+		s, err := motion.NewStream(origin, spec, 50, opts)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got []motion.Epoch
+		var steps []float64
+		var changes []motion.PostureChange
+		maxChunk := []int{1, 7, 100, 5000}[trial%4]
+		for i := 0; i < len(x); {
+			j := min(len(x), i+1+rng.IntN(maxChunk))
+			if err := s.Push(x[i:j], y[i:j], z[i:j]); err != nil {
+				t.Fatal(err)
+			}
+			got = append(got, s.Ready()...)
+			steps = append(steps, s.Steps()...)
+			changes = append(changes, s.PostureChanges()...)
+			i = j
+		}
+		if err := s.Close(); err != nil {
+			t.Fatal(err)
+		}
+		got = append(got, s.Ready()...)
+		steps = append(steps, s.Steps()...)
+		changes = append(changes, s.PostureChanges()...)
+		if d := cmp.Diff(want, got, eq); d != "" {
+			t.Fatalf("trial %d (chunks up to %d): epochs differ (-batch +stream):\n%s", trial, maxChunk, d)
+		}
+		if d := cmp.Diff(tr.StepTimes, steps); d != "" {
+			t.Fatalf("trial %d: steps differ:\n%s", trial, d)
+		}
+		if d := cmp.Diff(tr.Changes, changes); d != "" {
+			t.Fatalf("trial %d: posture changes differ:\n%s", trial, d)
+		}
+	}
+}
