@@ -8,7 +8,9 @@ import (
 	"sort"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgsvg"
@@ -32,6 +34,7 @@ var (
 	colGap     = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x50}
 	colEvent   = color.NRGBA{R: 0xe6, G: 0x7e, B: 0x22, A: 0x60}
 	colLabel   = color.NRGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x22}
+	colLabel2  = color.NRGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x44}
 	bandColors = []color.Color{
 		color.NRGBA{R: 0xb0, G: 0xb0, B: 0xb0, A: 0x50},
 		color.NRGBA{R: 0x5b, G: 0x8d, B: 0xd6, A: 0x50},
@@ -47,10 +50,12 @@ type figure struct {
 	plots              []*plot.Plot // stacked vertically, sharing the width
 }
 
-// spans fills vertical bands over the whole height of the data area.
+// spans fills vertical bands over the whole height of the data area; with
+// Text set it writes each span's label at the top left of its band.
 type spans struct {
 	S     []Span
 	Color func(i int) color.Color
+	Text  bool
 }
 
 func (s spans) Plot(c draw.Canvas, p *plot.Plot) {
@@ -65,7 +70,21 @@ func (s spans) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 		pts := []vg.Point{{X: x0, Y: c.Min.Y}, {X: x1, Y: c.Min.Y}, {X: x1, Y: c.Max.Y}, {X: x0, Y: c.Max.Y}}
 		c.FillPolygon(s.Color(i), c.ClipPolygonX(pts))
+		if s.Text && sp.Label != "" && x1 > c.Min.X && x0 < c.Max.X {
+			sty := text.Style{Color: color.Gray{Y: 0x40}, Font: font.From(plot.DefaultFont, 7), Handler: p.TextHandler, YAlign: draw.YTop}
+			c.FillText(sty, vg.Point{X: max(x0, c.Min.X) + vg.Points(2), Y: c.Max.Y - vg.Points(2)}, sp.Label)
+		}
 	}
+}
+
+// labelBands shades labelled segments in two alternating tones and names them.
+func labelBands(labels []Span, k float64) spans {
+	return spans{S: scaleSpans(labels, k), Text: true, Color: func(i int) color.Color {
+		if i%2 == 0 {
+			return colLabel
+		}
+		return colLabel2
+	}}
 }
 
 // cells fills rectangles [X0,X1) x [Y0,Y1) in data coordinates.
@@ -238,7 +257,7 @@ func figTachogram(in *Input) (figure, error) {
 	if len(b.TimeS) < 2 {
 		noData(p, "fewer than two beats")
 	} else {
-		p.Add(spans{S: scaleSpans(in.Labels, 1.0/60), Color: func(int) color.Color { return colLabel }})
+		p.Add(labelBands(in.Labels, 1.0/60))
 		p.Add(spans{S: scaleSpans(lowQuality(in.Quality, "ECG"), 1.0/60), Color: func(int) color.Color { return colEvent }})
 		p.Add(spans{S: scaleSpans(b.Gaps, 1.0/60), Color: func(int) color.Color { return colGap }})
 		hr := make([]float64, len(b.RRms))
@@ -470,7 +489,7 @@ func figVentilation(in *Input) (figure, error) {
 		noData(pr, "no breathing windows")
 	} else {
 		for _, p := range []*plot.Plot{pv, pr} {
-			p.Add(spans{S: scaleSpans(in.Labels, 1.0/60), Color: func(int) color.Color { return colLabel }})
+			p.Add(labelBands(in.Labels, 1.0/60))
 			p.Add(spans{S: scaleSpans(in.Breath.Events, 1.0/60), Color: func(int) color.Color { return colEvent }})
 		}
 		if err := addLines(pv, ve, colLine, vg.Points(1)); err != nil {
