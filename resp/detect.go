@@ -1,0 +1,573 @@
+package resp
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"github.com/tidalbeat/tidalbeat/internal/dsp"
+	"github.com/tidalbeat/tidalbeat/window"
+)
+
+// Detect finds the breaths in the rib-cage and abdominal bands, sampled
+// together at opt.RateHz. NaN or infinite samples in either band become gaps
+// (Result.Gaps) and detection restarts after each. It is the batch driver of
+// the same core the Stream type feeds, so both give identical results.
+//
+// Conditioning (documented bands): each band is low-passed (order-2
+// Butterworth, Options.LowpassHz, 2 Hz by default) and the weighted sum of the
+// low-passed bands is the volume signal on which peaks and troughs are
+// located; a detection copy is also high-passed (order-1 Butterworth,
+// Options.HighpassHz, 0.05 Hz) to remove drift before the hysteresis
+// comparison. Reported times are corrected for the low-pass delay at low
+// frequency (sqrt(2)/(2*pi*fc) for order 2; 0.11 s at 2 Hz).
+//
+// Segmentation is by alternating extrema with an adaptive hysteresis (methods
+// reference 5.2, common practice): the detection signal must cross
+// +-HysteresisFrac times the median amplitude of the last ten clean breaths;
+// after 15 s with no breath that reference decays (time constant 30 s, to a
+// quarter) so a lasting fall of amplitude is followed. A flat trough longer
+// than PauseMinS is split into end of expiration, pause and next onset.
+func Detect(rib, abd []float64, opt Options) (Result, error) {
+	if len(rib) != len(abd) {
+		return Result{}, fmt.Errorf("resp: %d rib-cage and %d abdominal samples: %w", len(rib), len(abd), ErrInput)
+	}
+	if len(rib) == 0 {
+		return Result{}, fmt.Errorf("resp: no samples: %w", ErrInput)
+	}
+	c, err := newCore(opt)
+	if err != nil {
+		return Result{}, err
+	}
+	c.out.Breaths = make([]Breath, 0, int(float64(len(rib))/opt.RateHz/3)+1)
+	c.push(rib, abd)
+	c.close()
+	return c.out, nil
+}
+
+// Stream is the streaming driver of breath detection: push chunks of both
+// bands in time order and collect the breaths as they complete. It feeds the
+// same core as Detect, so any chunking gives the breaths Detect gives, bit for
+// bit. Memory is bounded by Options.BufferS of signal. It is not safe for
+// concurrent use.
+type Stream struct {
+	c      *core
+	closed bool
+}
+
+// NewStream returns a stream for bands sampled at opt.RateHz.
+func NewStream(opt Options) (*Stream, error) {
+	c, err := newCore(opt)
+	if err != nil {
+		return nil, err
+	}
+	return &Stream{c: c}, nil
+}
+
+// Push feeds the next samples of both bands (equal lengths).
+func (s *Stream) Push(rib, abd []float64) error {
+	if s.closed {
+		return ErrClosed
+	}
+	if len(rib) != len(abd) {
+		return fmt.Errorf("resp: stream: %d rib-cage and %d abdominal samples: %w", len(rib), len(abd), ErrInput)
+	}
+	s.c.push(rib, abd)
+	return nil
+}
+
+// Close ends the stream; a breath still in progress is counted as discarded.
+func (s *Stream) Close() error {
+	if s.closed {
+		return ErrClosed
+	}
+	s.closed = true
+	s.c.close()
+	return nil
+}
+
+// Drain returns the breaths, pause excursions and gaps completed since the
+// last Drain (appended to the given slices, which may be nil) and forgets
+// them, so memory stays bounded.
+func (s *Stream) Drain(breaths []Breath, pauses []Excursion, gaps []window.Interval) ([]Breath, []Excursion, []window.Interval) {
+	breaths = append(breaths, s.c.out.Breaths...)
+	pauses = append(pauses, s.c.out.Pauses...)
+	gaps = append(gaps, s.c.out.Gaps...)
+	s.c.out.Breaths = s.c.out.Breaths[:0]
+	s.c.out.Pauses = s.c.out.Pauses[:0]
+	s.c.out.Gaps = s.c.out.Gaps[:0]
+	return breaths, pauses, gaps
+}
+
+// Discarded returns the number of breath candidates dropped so far.
+func (s *Stream) Discarded() int { return s.c.out.Discarded }
+
+// Calibration returns the calibration the stream's volumes use.
+func (s *Stream) Calibration() Calibration { return s.c.out.Calibration }
+
+const (
+	stInit = iota
+	stHigh
+	stLow
+)
+
+const nRecent = 10 // breaths in the adaptive reference (methods reference 5.2: ~10)
+
+type core struct {
+	o      Options
+	a, b   float64
+	litres bool
+	fs     float64
+	delay  float64
+
+	lpR, lpA, hpR, hpA, hfS *dsp.Filter
+
+	cap                      int
+	m, rf, af, rl, al, hf2   []float64
+	flag                     []uint8
+	n                        int // global index of the next sample
+	started                  bool
+	startN                   int
+	lastR, lastA             float64
+	runR, runA, clipN, flatN int
+
+	state        int
+	onset, peak  int
+	ext          int
+	quietFrom    int
+	lastAccept   int
+	amps         []float64 // recent clean breath amplitudes (ring)
+	ribs, abds   []float64
+	recentPos    int
+	ref          float64 // median of amps
+	refRib       float64
+	refAbd       float64
+	warmHi       float64
+	warmLo       float64
+	spanN        int
+	pauseMinN    int
+	minBreathN   int
+	inGap        bool
+	gapStart     float64
+	motion       []window.Interval
+	motionCursor int
+	bufR, bufA   []float64
+
+	out Result
+}
+
+const (
+	flagClip uint8 = 1 << iota
+	flagFlat
+)
+
+func newCore(opt Options) (*core, error) {
+	o, err := opt.withDefaults()
+	if err != nil {
+		return nil, err
+	}
+	lp, err := dsp.ButterLowpass(2, o.LowpassHz, o.RateHz)
+	if err != nil {
+		return nil, fmt.Errorf("resp: low-pass: %w", err)
+	}
+	hp, err := dsp.ButterHighpass(1, o.HighpassHz, o.RateHz)
+	if err != nil {
+		return nil, fmt.Errorf("resp: high-pass: %w", err)
+	}
+	hf, err := dsp.ButterHighpass(2, math.Min(2*o.LowpassHz, 0.4*o.RateHz), o.RateHz)
+	if err != nil {
+		return nil, fmt.Errorf("resp: motion high-pass: %w", err)
+	}
+	mot, err := window.NormalizeGaps(o.Motion)
+	if err != nil {
+		return nil, fmt.Errorf("resp: motion spans: %w", err)
+	}
+	c := &core{o: o, fs: o.RateHz, lpR: lp.NewFilter(), lpA: lp.NewFilter(), hpR: hp.NewFilter(), hpA: hp.NewFilter(), hfS: hf.NewFilter(), motion: mot}
+	c.a, c.b = o.Calibration.weights()
+	c.litres = o.Calibration.Litres
+	c.out.Calibration = o.Calibration
+	if c.out.Calibration.Method == "" {
+		c.out.Calibration.Method = "none"
+	}
+	// Group delay of the low-pass near 0 Hz from its phase at a frequency
+	// far below the cut-off.
+	f0 := o.LowpassHz / 100
+	h := lp.Response(f0, o.RateHz)
+	c.delay = -math.Atan2(imag(h), real(h)) / (2 * math.Pi * f0)
+	c.cap = int(o.BufferS*o.RateHz) + 2
+	for _, p := range []*[]float64{&c.m, &c.rf, &c.af, &c.rl, &c.al, &c.hf2} {
+		*p = make([]float64, c.cap)
+	}
+	c.flag = make([]uint8, c.cap)
+	c.clipN = max(2, int(math.Round(o.ClipRunS*o.RateHz)))
+	c.flatN = max(c.clipN+1, int(math.Round(o.FlatRunS*o.RateHz)))
+	c.spanN = max(1, int(math.Round(o.ExcursionSpanS*o.RateHz)))
+	c.pauseMinN = int(math.Round(o.PauseMinS * o.RateHz))
+	c.minBreathN = int(math.Round(o.MinBreathS * o.RateHz))
+	c.amps = make([]float64, 0, nRecent)
+	c.ribs = make([]float64, 0, nRecent)
+	c.abds = make([]float64, 0, nRecent)
+	c.resetState()
+	return c, nil
+}
+
+func (c *core) resetState() {
+	c.state = stInit
+	c.onset, c.peak, c.ext, c.quietFrom = -1, -1, -1, -1
+	c.started = false
+}
+
+// t returns the time of global sample i, corrected for the low-pass delay.
+func (c *core) t(i int) float64 { return c.o.StartS + float64(i)/c.fs - c.delay }
+
+// tRaw is the acquisition time of sample i (for gaps).
+func (c *core) tRaw(i int) float64 { return c.o.StartS + float64(i)/c.fs }
+
+func (c *core) push(rib, abd []float64) {
+	for i := range rib {
+		c.step(rib[i], abd[i])
+	}
+}
+
+func (c *core) close() {
+	if c.inGap {
+		c.out.Gaps = append(c.out.Gaps, window.Interval{Start: c.gapStart, End: c.tRaw(c.n)})
+		c.inGap = false
+	}
+	if c.onset >= 0 {
+		c.out.Discarded++ // breath in progress at the end
+	}
+	if c.quietFrom >= 0 && c.quietFrom < c.n {
+		c.emitQuiet(c.quietFrom, c.n)
+	}
+	c.resetState()
+}
+
+// reference returns the adaptive amplitude reference at sample n.
+func (c *core) reference() float64 {
+	r := c.ref
+	if len(c.amps) < 3 {
+		r = c.warmHi - c.warmLo
+	}
+	if el := float64(c.n-c.lastAccept) / c.fs; el > 15 {
+		r *= math.Max(0.25, math.Exp(-(el-15)/30))
+	}
+	return r
+}
+
+func (c *core) step(rib, abd float64) {
+	if !finite(rib) || !finite(abd) {
+		if !c.inGap {
+			c.inGap = true
+			c.gapStart = c.tRaw(c.n)
+			if c.onset >= 0 {
+				c.out.Discarded++
+			}
+			if c.quietFrom >= 0 && c.quietFrom < c.n {
+				c.emitQuiet(c.quietFrom, c.n)
+			}
+			c.resetState()
+		}
+		c.n++
+		return
+	}
+	if c.inGap {
+		c.out.Gaps = append(c.out.Gaps, window.Interval{Start: c.gapStart, End: c.tRaw(c.n)})
+		c.inGap = false
+	}
+	if !c.started {
+		c.lpR.Reset(rib)
+		c.lpA.Reset(abd)
+		c.hpR.Reset(rib)
+		c.hpA.Reset(abd)
+		c.hfS.Reset(c.a*rib + c.b*abd)
+		c.started = true
+		c.startN = c.n
+		c.lastAccept = c.n
+		c.warmHi, c.warmLo = 0, 0
+		c.lastR, c.lastA = math.NaN(), math.NaN()
+		c.runR, c.runA = 0, 0
+	}
+	n := c.n
+	k := n % c.cap
+	rl := c.lpR.Step(rib)
+	al := c.lpA.Step(abd)
+	rf := c.a * c.hpR.Step(rl)
+	af := c.b * c.hpA.Step(al)
+	m := c.a*rl + c.b*al
+	d := rf + af
+	hf := c.hfS.Step(c.a*rib + c.b*abd)
+	c.m[k], c.rf[k], c.af[k], c.rl[k], c.al[k], c.hf2[k] = m, rf, af, rl, al, hf*hf
+
+	// Runs of identical raw values: clipping when short, band loss when long.
+	var fl uint8
+	if rib == c.lastR {
+		c.runR++
+	} else {
+		c.runR = 1
+	}
+	if abd == c.lastA {
+		c.runA++
+	} else {
+		c.runA = 1
+	}
+	c.lastR, c.lastA = rib, abd
+	for _, r := range [2]int{c.runR, c.runA} {
+		if r >= c.flatN {
+			fl |= flagFlat
+		} else if r >= c.clipN {
+			fl |= flagClip
+		}
+	}
+	c.flag[k] = fl
+
+	if len(c.amps) < 3 {
+		c.warmHi = math.Max(c.warmHi, d)
+		c.warmLo = math.Min(c.warmLo, d)
+	}
+	ref := c.reference()
+	h := c.o.HysteresisFrac * ref
+
+	switch c.state {
+	case stInit:
+		if d > h {
+			c.state, c.ext = stHigh, n
+		} else if d < -h {
+			c.state, c.ext = stLow, n
+		}
+	case stHigh:
+		if m > c.m[c.ext%c.cap] {
+			c.ext = n
+		}
+		if c.onset >= 0 && n-c.onset >= c.cap-2 {
+			c.out.Discarded++ // inspiration longer than the buffer
+			c.onset = -1
+		}
+		if c.onset < 0 && n-c.ext > c.cap/2 {
+			c.ext = n
+		}
+		if d < -h {
+			c.peak = c.ext
+			if c.onset < 0 {
+				c.peak = -1 // no onset: this half breath is not a breath
+			}
+			c.state, c.ext = stLow, n
+		}
+	case stLow:
+		if m < c.m[c.ext%c.cap] {
+			c.ext = n
+		}
+		if c.peak >= 0 && n-c.onset >= c.cap-2 {
+			c.forcePause(ref)
+		}
+		if c.peak < 0 {
+			if n-c.ext > c.cap/2 {
+				c.ext = n
+			}
+			if c.quietFrom >= 0 && n-c.quietFrom >= c.spanN {
+				c.emitQuiet(c.quietFrom, c.quietFrom+c.spanN)
+				c.quietFrom += c.spanN
+			}
+		}
+		if d > h {
+			c.rise(ref)
+			c.state, c.ext = stHigh, n
+		}
+	}
+	c.n++
+}
+
+// troughBounds returns the end of expiration (first sample after from at
+// the trough level) and the next onset (last sample before the current one
+// at the trough level) for the trough at tr, with tolerance tol.
+func (c *core) troughBounds(from, tr int, tol float64) (endExp, next int) {
+	lvl := c.m[tr%c.cap] + tol
+	endExp = tr
+	for i := from; i <= tr; i++ {
+		if c.m[i%c.cap] <= lvl {
+			endExp = i
+			break
+		}
+	}
+	next = tr
+	for j := c.n; j >= tr; j-- {
+		if c.m[j%c.cap] <= lvl {
+			next = j
+			break
+		}
+	}
+	if next-endExp < c.pauseMinN {
+		endExp, next = tr, tr
+	}
+	return endExp, next
+}
+
+// rise handles the switch from expiration to inspiration at sample c.n.
+func (c *core) rise(ref float64) {
+	tr := c.ext
+	from := tr
+	tol := c.o.PauseTolFrac * ref
+	if c.peak >= 0 {
+		from = c.peak
+		tol = c.o.PauseTolFrac * (c.m[c.peak%c.cap] - c.m[tr%c.cap])
+	} else if c.quietFrom >= 0 {
+		from = c.quietFrom
+	}
+	endExp, next := c.troughBounds(from, tr, tol)
+	switch {
+	case c.peak >= 0 && c.onset >= 0:
+		c.finish(c.onset, c.peak, endExp, next, ref, false)
+	case c.quietFrom >= 0:
+		if next > c.quietFrom {
+			c.emitQuiet(c.quietFrom, next)
+		}
+	}
+	c.quietFrom = -1
+	c.onset, c.peak = next, -1
+}
+
+// forcePause ends the pending breath when the pause after it outgrows the
+// buffer; the pause continues as excursion spans.
+func (c *core) forcePause(ref float64) {
+	tol := c.o.PauseTolFrac * (c.m[c.peak%c.cap] - c.m[c.ext%c.cap])
+	lvl := c.m[c.ext%c.cap] + tol
+	endExp := c.ext
+	for i := c.peak; i <= c.ext; i++ {
+		if c.m[i%c.cap] <= lvl {
+			endExp = i
+			break
+		}
+	}
+	c.finish(c.onset, c.peak, endExp, c.n, ref, true)
+	c.onset, c.peak = -1, -1
+	c.quietFrom = c.n
+}
+
+// emitQuiet appends excursion spans covering samples [i, j).
+func (c *core) emitQuiet(i, j int) {
+	for s := i; s < j; s += c.spanN {
+		e := min(s+c.spanN, j)
+		c.out.Pauses = append(c.out.Pauses, Excursion{
+			Start: c.t(s), End: c.t(e),
+			SumAU: c.p2p(c.m, s, e-1), RibExcAU: c.p2p(c.rf, s, e-1), AbdExcAU: c.p2p(c.af, s, e-1),
+		})
+	}
+}
+
+func (c *core) p2p(x []float64, i, j int) float64 {
+	hi, lo := math.Inf(-1), math.Inf(1)
+	for k := i; k <= j; k++ {
+		v := x[k%c.cap]
+		hi = math.Max(hi, v)
+		lo = math.Min(lo, v)
+	}
+	return hi - lo
+}
+
+// finish emits the breath onset..peak..endExp whose next onset is next, or
+// turns it into excursion spans when it fails the acceptance tests.
+func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
+	vt := c.m[pk%c.cap] - c.m[on%c.cap]
+	ti := float64(pk-on) / c.fs
+	te := float64(endExp-pk) / c.fs
+	if endExp-on < c.minBreathN || pk <= on || endExp <= pk || !(vt >= 2*c.o.HysteresisFrac*ref) {
+		c.out.Discarded++
+		c.emitQuiet(on, next)
+		return
+	}
+	b := Breath{
+		Onset: c.t(on), EndInsp: c.t(pk), EndExp: c.t(endExp),
+		PauseS: float64(next-endExp) / c.fs,
+		TiS:    ti, TeS: te, TtotS: ti + te,
+		VtAU: vt, VtL: math.NaN(), FlowLs: math.NaN(),
+		RibRise: c.rl[pk%c.cap] - c.rl[on%c.cap],
+		AbdRise: c.al[pk%c.cap] - c.al[on%c.cap],
+	}
+	b.TiTtot = b.TiS / b.TtotS
+	b.RatePerMin = 60 / b.TtotS
+	b.FlowAUs = vt / ti
+	if c.litres {
+		b.VtL = vt
+		b.FlowLs = vt / ti
+	}
+	b.RibExcAU = c.p2p(c.rf, on, endExp)
+	b.AbdExcAU = c.p2p(c.af, on, endExp)
+	b.PhaseXcorrDeg = c.xcorrPhase(on, endExp)
+	b.PhaseLissajousDeg = c.lissajous(on, endExp)
+	ph := math.Abs(b.PhaseXcorrDeg)
+	if math.IsNaN(ph) {
+		ph = b.PhaseLissajousDeg
+	}
+	b.Paradox = ph >= c.o.ParadoxDeg
+
+	// Quality.
+	var fl uint8
+	var e2 float64
+	for i := on; i <= endExp; i++ {
+		fl |= c.flag[i%c.cap]
+		e2 += c.hf2[i%c.cap]
+	}
+	if fl&flagClip != 0 {
+		b.Quality |= QualityClipping
+	}
+	if fl&flagFlat != 0 {
+		b.Quality |= QualityBandLoss
+	}
+	if math.Sqrt(e2/float64(endExp-on+1)) > c.o.MotionFrac*vt {
+		b.Quality |= QualityMotion
+	}
+	clean := len(c.amps) >= 3
+	if clean && vt > c.o.MotionAmpFactor*c.ref {
+		b.Quality |= QualityMotion
+	}
+	if c.overlapsMotion(b.Onset, b.EndExp) {
+		b.Quality |= QualityMotion
+	}
+	if clean && ((b.RibExcAU < 0.1*c.refRib && b.AbdExcAU >= 0.5*c.refAbd) || (b.AbdExcAU < 0.1*c.refAbd && b.RibExcAU >= 0.5*c.refRib)) {
+		b.Quality |= QualityBandLoss
+	}
+	if long {
+		b.Quality |= QualityLongPause
+	}
+	b.Sigh = clean && vt >= c.o.SighFactor*c.ref
+	c.out.Breaths = append(c.out.Breaths, b)
+	if next > endExp {
+		c.emitQuiet(endExp, next)
+	}
+	if b.Quality&^QualityLongPause == 0 {
+		c.remember(vt, b.RibExcAU, b.AbdExcAU)
+		c.lastAccept = c.n
+	}
+}
+
+func (c *core) remember(vt, rib, abd float64) {
+	if len(c.amps) < nRecent {
+		c.amps = append(c.amps, vt)
+		c.ribs = append(c.ribs, rib)
+		c.abds = append(c.abds, abd)
+	} else {
+		c.amps[c.recentPos], c.ribs[c.recentPos], c.abds[c.recentPos] = vt, rib, abd
+		c.recentPos = (c.recentPos + 1) % nRecent
+	}
+	var buf [nRecent]float64
+	c.ref = medianInto(buf[:0], c.amps)
+	c.refRib = medianInto(buf[:0], c.ribs)
+	c.refAbd = medianInto(buf[:0], c.abds)
+}
+
+func medianInto(buf, x []float64) float64 {
+	buf = append(buf, x...)
+	sort.Float64s(buf)
+	n := len(buf)
+	if n%2 == 1 {
+		return buf[n/2]
+	}
+	return (buf[n/2-1] + buf[n/2]) / 2
+}
+
+func (c *core) overlapsMotion(s, e float64) bool {
+	for c.motionCursor < len(c.motion) && c.motion[c.motionCursor].End <= s {
+		c.motionCursor++
+	}
+	return c.motionCursor < len(c.motion) && c.motion[c.motionCursor].Start < e
+}
