@@ -1,0 +1,172 @@
+package features
+
+import (
+	"errors"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/tidalbeat/tidalbeat/features/recording"
+	"github.com/tidalbeat/tidalbeat/internal/sim"
+)
+
+func walkRunSchedule() []sim.AccelSegment {
+	return []sim.AccelSegment{
+		{Activity: sim.AccelSitting, DurationS: 120},
+		{Activity: sim.AccelWalking, DurationS: 240, CadenceSPM: 110},
+		{Activity: sim.AccelRunning, DurationS: 180, CadenceSPM: 170},
+		{Activity: sim.AccelSupine, DurationS: 120},
+	}
+}
+
+func TestExtractGridAndMissingFamilies(t *testing.T) {
+	rec, _ := simAccel(t, walkRunSchedule(), 1)
+	tab, err := Extract(rec, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Rows every 30 s at whole multiples of 30 s since the Unix epoch
+	// (issue 8: "default every 30 s, aligned to the Unix epoch"), from the
+	// first after the start to the first at or after the end (660 s of data
+	// starting 7.25 s past a grid time: 23 rows).
+	if len(tab.Rows) != 23 {
+		t.Fatalf("%d rows, want 23", len(tab.Rows))
+	}
+	for i, r := range tab.Rows {
+		if r.Time.UnixNano()%int64(30*time.Second) != 0 {
+			t.Fatalf("row %d at %v not on the 30-s epoch grid", i, r.Time)
+		}
+		if r.Seq != r.Time.Unix()/30 {
+			t.Fatalf("row %d seq %d, want %d", i, r.Seq, r.Time.Unix()/30)
+		}
+		if got := r.Time.Sub(testStart).Seconds(); math.Abs(got-r.Offset) > 1e-9 {
+			t.Fatalf("row %d offset %v, time says %v", i, r.Offset, got)
+		}
+	}
+	// No ECG and no bands: empty columns with the reason, not an error.
+	for _, name := range []string{"hrv_reason", "breathing_reason"} {
+		for i, s := range tab.Strings(name) {
+			if s == "" {
+				t.Fatalf("%s empty in row %d", name, i)
+			}
+		}
+	}
+	if got := tab.Strings("hrv_reason")[5]; got != "no ECG channel" {
+		t.Errorf("hrv_reason = %q, want %q", got, "no ECG channel")
+	}
+	if got := tab.Strings("breathing_reason")[5]; got != "no respiratory band" {
+		t.Errorf("breathing_reason = %q", got)
+	}
+	if cov := tab.Float("hrv_coverage_frac")[5]; !math.IsNaN(cov) {
+		t.Errorf("hrv coverage %v for a missing family, want empty", cov)
+	}
+}
+
+// TestActivityStepsAgainstSimulator checks the activity columns against the
+// simulator's ground truth: internal/sim.AccelSimulate places one impact
+// per step at the scheduled cadence (110 steps/min walking, 170 running: a
+// typical adult walking cadence and an easy running cadence, common
+// practice).
+func TestActivityStepsAgainstSimulator(t *testing.T) {
+	rec, a := simAccel(t, walkRunSchedule(), 2)
+	tab, err := Extract(rec, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	steps, cad := tab.Float("steps_count"), tab.Float("cadence_spm")
+	cov := tab.Float("activity_coverage_frac")
+	checked := 0
+	for i, r := range tab.Rows {
+		if cov[i] < 1 {
+			continue
+		}
+		lo, hi := r.Offset-30, r.Offset
+		truth := 0
+		for _, s := range a.Steps {
+			if s >= lo && s < hi {
+				truth++
+			}
+		}
+		// Allow one step at each window edge (the detector times a step at
+		// its filtered peak, a fraction of a step after the impact).
+		if math.Abs(steps[i]-float64(truth)) > 2 {
+			t.Errorf("row %d (%.0f s): %v steps, simulator %d", i, hi, steps[i], truth)
+		}
+		if lo >= 130 && hi <= 350 { // fully inside the 110 steps/min walk
+			if math.Abs(cad[i]-110) > 110*0.05 {
+				t.Errorf("row %d: cadence %v steps/min, simulator 110", i, cad[i])
+			}
+			checked++
+		}
+		if lo >= 370 && hi <= 530 { // inside the 170 steps/min run
+			if math.Abs(cad[i]-170) > 170*0.05 {
+				t.Errorf("row %d: cadence %v steps/min, simulator 170", i, cad[i])
+			}
+			checked++
+		}
+	}
+	if checked < 8 {
+		t.Fatalf("only %d windows inside walking/running segments", checked)
+	}
+	total := 0.0
+	for i := range steps {
+		if !math.IsNaN(steps[i]) {
+			total += steps[i]
+		}
+	}
+	if want := float64(len(a.Steps)); math.Abs(total-want) > 0.03*want {
+		t.Errorf("total steps %v, simulator %v", total, want)
+	}
+}
+
+func TestStreamEqualsBatch(t *testing.T) {
+	rec, _ := simAccel(t, walkRunSchedule(), 3)
+	// Lost samples in the middle of one axis and a declared gap.
+	for i := 20000; i < 20400; i++ {
+		rec.Channels[1].Samples[i] = math.NaN()
+	}
+	cfg := Config{Labels: []Label{{Start: testStart.Add(100 * time.Second), End: testStart.Add(160 * time.Second), Name: "walk test"}}}
+	want, err := Extract(rec, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for trial := range 6 {
+		rng := rand.New(rand.NewPCG(uint64(trial), 99))
+		got := streamRows(t, rec, cfg, rng, []float64{0.05, 1, 7, 45, 200, 2000}[trial])
+		rowsEqual(t, want.Rows, got)
+	}
+}
+
+func TestExtractErrors(t *testing.T) {
+	rec, _ := simAccel(t, walkRunSchedule()[:1], 4)
+	if _, err := Extract(nil, Config{}); !errors.Is(err, ErrInput) {
+		t.Errorf("nil recording: %v", err)
+	}
+	for _, cfg := range []Config{
+		{Step: -time.Second},
+		{HRVWindow: -1},
+		{Families: []string{"mood"}},
+		{MinCoverage: 2},
+		{Roles: map[string]recording.Role{"nope": recording.RoleECG}},
+	} {
+		if _, err := Extract(rec, cfg); !errors.Is(err, ErrConfig) {
+			t.Errorf("config %+v: error %v, want ErrConfig", cfg, err)
+		}
+	}
+	bad := *rec
+	bad.Channels = append([]recording.Channel(nil), rec.Channels...)
+	bad.Channels[0].RateHz = math.NaN()
+	if _, err := Extract(&bad, Config{}); !errors.Is(err, ErrInput) {
+		t.Errorf("NaN rate: %v", err)
+	}
+	// Role override: calling the x axis an ECG leaves activity without x.
+	tab, err := Extract(rec, Config{Roles: map[string]recording.Role{"acc_x": recording.RoleUnknown}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r := tab.Strings("activity_reason")[0]; !strings.Contains(r, "acc_x") {
+		t.Errorf("activity reason %q after removing the x role", r)
+	}
+}
