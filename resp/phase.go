@@ -154,14 +154,19 @@ func lissajousPhase(y, x []float64) float64 {
 	my /= float64(len(x))
 	mid := (ymax + ymin) / 2
 	var up, down, nu, nd, cov float64
-	for i := 1; i < len(x); i++ {
+	// The breath is one cycle: the pair (last, first) closes the loop.
+	for i := 0; i < len(x); i++ {
 		cov += (x[i] - mx) * (y[i] - my)
-		a, b := y[i-1], y[i]
+		p := i - 1
+		if p < 0 {
+			p = len(x) - 1
+		}
+		a, b := y[p], y[i]
 		if (a < mid) == (b < mid) || a == b {
 			continue
 		}
 		f := (mid - a) / (b - a)
-		xc := x[i-1] + f*(x[i]-x[i-1])
+		xc := x[p] + f*(x[i]-x[p])
 		if b > a {
 			up += xc
 			nu++

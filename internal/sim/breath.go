@@ -71,6 +71,9 @@ type BreathSegment struct {
 	// RibShare is the fraction of the volume change taken by the rib cage
 	// (posture: about 0.4 upright, 0.3 supine, common practice); 0.4 by default.
 	RibShare float64
+	// RibShareSD is the breath-to-breath SD of RibShare (natural breathing
+	// shifts between rib cage and abdomen); 0.05 by default, negative for none.
+	RibShareSD float64
 	// RibGain and AbdGain are the band gains in AU per litre of their
 	// compartment; they change with posture as the bands sit differently.
 	// Defaults 1.6 and 0.9.
@@ -161,7 +164,7 @@ func resolveSegments(in []BreathSegment) ([]BreathSegment, error) {
 	if len(in) == 0 {
 		return nil, fmt.Errorf("sim: breath schedule is empty")
 	}
-	prev := BreathSegment{RatePerMin: 15, TidalL: 0.5, TiTtot: 0.42, RateCV: 0.1, TidalCV: 0.12, RibShare: 0.4, RibGain: 1.6, AbdGain: 0.9, HypopneaFrac: 0.45}
+	prev := BreathSegment{RatePerMin: 15, TidalL: 0.5, TiTtot: 0.42, RateCV: 0.1, TidalCV: 0.12, RibShare: 0.4, RibShareSD: 0.05, RibGain: 1.6, AbdGain: 0.9, HypopneaFrac: 0.45}
 	out := make([]BreathSegment, len(in))
 	for i, s := range in {
 		if !(s.DurationS > 0) || math.IsInf(s.DurationS, 0) || s.DurationS > 30*86400 {
@@ -178,6 +181,7 @@ func resolveSegments(in []BreathSegment) ([]BreathSegment, error) {
 		inh(&s.RateCV, prev.RateCV)
 		inh(&s.TidalCV, prev.TidalCV)
 		inh(&s.RibShare, prev.RibShare)
+		inh(&s.RibShareSD, prev.RibShareSD)
 		inh(&s.RibGain, prev.RibGain)
 		inh(&s.AbdGain, prev.AbdGain)
 		inh(&s.HypopneaFrac, prev.HypopneaFrac)
@@ -231,7 +235,11 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 			ttot := 60 / s.RatePerMin * math.Exp(s.RateCV*clampN(rng))
 			vt := s.TidalL * math.Exp(s.TidalCV*clampN(rng))
 			duty := s.TiTtot * (1 + 0.05*clampN(rng))
-			c := BreathCycle{OnsetS: t, RibShare: s.RibShare, RibGain: s.RibGain, AbdGain: s.AbdGain}
+			share := s.RibShare
+			if s.RibShareSD > 0 {
+				share = math.Max(0.05, math.Min(0.95, share+s.RibShareSD*clampN(rng)))
+			}
+			c := BreathCycle{OnsetS: t, RibShare: share, RibGain: s.RibGain, AbdGain: s.AbdGain}
 			sigh := false
 			pause := 0.0
 			switch s.Kind {
