@@ -293,35 +293,45 @@ func (p *processor) posture(i int, b [3]float64) {
 		g[k] /= n
 	}
 	if !p.hasRef {
-		p.ref, p.hasRef = g, true
+		p.ref, p.cand, p.hasRef = g, g, true
 		return
 	}
 	if !p.moving {
+		// While settled, the reference snaps to any direction held within
+		// StableDeg for StableS, so slow drifts never add up to a change.
+		if dot(g, p.cand) < p.cosStable {
+			p.cand, p.stableSince = g, i
+		} else if i-p.stableSince >= p.stableN {
+			p.ref = p.cand
+		}
 		if dot(g, p.ref) < p.cosChange {
-			p.moving, p.onset, p.cand, p.stableSince = true, i, g, i
+			p.moving, p.onset = true, i
 		}
 		return
 	}
-	if dot(g, p.cand) < p.cosStable {
-		p.cand, p.stableSince = g, i
+	// Moving: a change is confirmed when the direction has stayed at least
+	// ChangeDeg from the reference for StableS; coming back cancels it. Not
+	// requiring the new direction to be still lets a change be seen even
+	// when walking starts straight after it (sensor in a trouser pocket).
+	c := dot(g, p.ref)
+	if c >= p.cosChange {
+		p.moving = false
 		return
 	}
-	if i-p.stableSince < p.stableN {
+	if i-p.onset < p.stableN {
 		return
 	}
 	p.moving = false
-	if c := dot(p.cand, p.ref); c < p.cosChange {
-		lying := p.o.Posture.LyingDeg
-		p.changes = append(p.changes, PostureChange{
-			Start:    sampleTime(p.rate, p.onset),
-			End:      sampleTime(p.rate, i),
-			From:     classify(p.ref[0], p.ref[1], p.ref[2], lying),
-			To:       classify(p.cand[0], p.cand[1], p.cand[2], lying),
-			AngleDeg: math.Acos(math.Max(-1, math.Min(1, c))) * 180 / math.Pi,
-		})
-		p.out[i-p.outBase].Flags |= FlagPostureChange
-		p.ref = p.cand
-	}
+	lying := p.o.Posture.LyingDeg
+	p.changes = append(p.changes, PostureChange{
+		Start:    sampleTime(p.rate, p.onset),
+		End:      sampleTime(p.rate, i),
+		From:     classify(p.ref[0], p.ref[1], p.ref[2], lying),
+		To:       classify(g[0], g[1], g[2], lying),
+		AngleDeg: math.Acos(math.Max(-1, math.Min(1, c))) * 180 / math.Pi,
+	})
+	p.out[i-p.outBase].Flags |= FlagPostureChange
+	p.ref, p.cand, p.stableSince = g, g, i
 }
 
 func dot(a, b [3]float64) float64 { return a[0]*b[0] + a[1]*b[1] + a[2]*b[2] }

@@ -283,9 +283,11 @@ type PostureOptions struct {
 	// ChangeDeg is the rotation of the gravity vector that starts a posture
 	// change. Default 30° (Tidalbeat's choice).
 	ChangeDeg float64
-	// StableDeg and StableS say when a change has settled: the gravity
-	// direction stays within StableDeg of itself for StableS seconds.
-	// Defaults 10° and 1 s (Tidalbeat's choice).
+	// A change is confirmed when the gravity direction has stayed at least
+	// ChangeDeg from the reference for StableS seconds. The reference is the
+	// direction at the last change, updated to any direction then held
+	// within StableDeg for StableS (so slow drift never adds up to a
+	// change). Defaults 10° and 1 s (Tidalbeat's choice).
 	StableDeg, StableS float64
 }
 
