@@ -70,10 +70,14 @@ func Burg(x []float64, order int) (a []float64, noiseVar float64, err error) {
 // Its integral over [0, fs/2] is the model's variance.
 func ARSpectrum(dst, a []float64, noiseVar, fsHz float64, freqs []float64) []float64 {
 	for _, f := range freqs {
-		w := -2 * math.Pi * f / fsHz
+		// Powers of e^{-i w} by repeated multiplication: one complex
+		// exponential per frequency.
+		rot := cmplx.Exp(complex(0, -2*math.Pi*f/fsHz))
 		var z complex128 = 1
-		for k, ak := range a {
-			z += complex(ak, 0) * cmplx.Exp(complex(0, w*float64(k+1)))
+		e := rot
+		for _, ak := range a {
+			z += complex(ak, 0) * e
+			e *= rot
 		}
 		m := real(z)*real(z) + imag(z)*imag(z)
 		dst = append(dst, 2*noiseVar/(fsHz*m))

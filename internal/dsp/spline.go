@@ -8,7 +8,7 @@ import (
 
 // ErrSeries reports a series a DSP helper cannot use: too few points, NaN or
 // infinite values, times out of order, mismatched lengths.
-var ErrSeries = errors.New("invalid input")
+var ErrSeries = errors.New("invalid series")
 
 // Spline is a cubic interpolating spline with the not-a-knot end condition
 // (the third derivative is continuous at the second and the next-to-last

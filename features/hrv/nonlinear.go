@@ -1,0 +1,282 @@
+package hrv
+
+import (
+	"fmt"
+	"math"
+	"slices"
+)
+
+// Poincare returns the Poincare plot descriptors of a contiguous NN series
+// (Brennan, Palaniswami and Kamen, IEEE Trans Biomed Eng 48(11):1342-1347,
+// 2001): SD1, the standard deviation of (NN[i+1]-NN[i])/sqrt 2 across the
+// identity line, and SD2, that of (NN[i+1]+NN[i])/sqrt 2 along it (ms).
+// With the same estimator SD1^2 = SDSD^2/2 exactly and
+// SD2^2 = 2 SDNN^2 - SDSD^2/2 up to O(1/N) end effects. It needs three
+// intervals (two with Population).
+func Poincare(nn []float64, norm Norm) (sd1, sd2 float64, err error) {
+	if err := checkNN(nn); err != nil {
+		return math.NaN(), math.NaN(), err
+	}
+	if len(nn)-1 < minSD(norm) {
+		return math.NaN(), math.NaN(), fmt.Errorf("hrv: Poincare of %d intervals: %w", len(nn), ErrTooFew)
+	}
+	a, b := poincarePairs(nil, nil, nn)
+	return sd(a, norm), sd(b, norm), nil
+}
+
+func poincarePairs(a, b, nn []float64) ([]float64, []float64) {
+	for i := 1; i < len(nn); i++ {
+		a = append(a, (nn[i]-nn[i-1])/math.Sqrt2)
+		b = append(b, (nn[i]+nn[i-1])/math.Sqrt2)
+	}
+	return a, b
+}
+
+// checkEntropy validates SampEn/ApEn parameters.
+func checkEntropy(x []float64, m int, r float64) error {
+	for i, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("hrv: entropy: value %d is %v: %w", i, v, ErrInput)
+		}
+	}
+	if m < 1 {
+		return fmt.Errorf("hrv: entropy: template length %d: %w", m, ErrInput)
+	}
+	if math.IsNaN(r) || math.IsInf(r, 0) || r < 0 {
+		return fmt.Errorf("hrv: entropy: tolerance %v: %w", r, ErrInput)
+	}
+	return nil
+}
+
+// sortedTemplates returns the start indices 0..n-1 sorted by x[i] (ties by
+// index) and the templates' coordinates laid out in that order: coords[c][k]
+// = x[idx[k]+c] for c = 0..width-1, so the pair scan reads memory
+// sequentially.
+func sortedTemplates(x []float64, n, width int) (idx []int32, coords [][]float64) {
+	idx = make([]int32, n)
+	for i := range idx {
+		idx[i] = int32(i)
+	}
+	slices.SortFunc(idx, func(a, b int32) int {
+		if x[a] < x[b] {
+			return -1
+		}
+		if x[a] > x[b] {
+			return 1
+		}
+		return int(a - b)
+	})
+	coords = make([][]float64, width)
+	for c := range coords {
+		col := make([]float64, n)
+		for k, i := range idx {
+			col[k] = x[int(i)+c]
+		}
+		coords[c] = col
+	}
+	return idx, coords
+}
+
+// SampleEntropy returns SampEn(m, r) of x (Richman and Moorman, Am J Physiol
+// Heart Circ Physiol 278(6):H2039-H2049, 2000): with templates of length m
+// starting at i = 0..N-m-1 (so that each has a length m+1 extension), B is
+// the number of pairs i < j whose length-m templates are within r in the
+// maximum norm (|d| <= r, self-matches excluded) and A the number of those
+// whose length-(m+1) templates also match; SampEn = -ln(A/B). r is absolute
+// (use 0.2 * SD(x) for the usual relative tolerance). It returns NaN and
+// ErrUndefined when A or B is 0, and ErrTooFew when N <= m+1.
+//
+// The count is exact. Templates are sorted by their first coordinate, so each
+// one is compared only with the following templates whose first value lies
+// within r (the same float comparison as the direct method, hence the same
+// counts); cost O(N log N + N K) for K such candidates per template, memory
+// O(N m).
+func SampleEntropy(x []float64, m int, r float64) (float64, error) {
+	a, b, err := SampleEntropyCounts(x, m, r)
+	if err != nil {
+		return math.NaN(), err
+	}
+	if a == 0 || b == 0 {
+		return math.NaN(), fmt.Errorf("hrv: sample entropy: A = %d, B = %d matches (m = %d, r = %v): %w", a, b, m, r, ErrUndefined)
+	}
+	return -math.Log(float64(a) / float64(b)), nil
+}
+
+// SampleEntropyCounts returns the match counts A (length m+1) and B
+// (length m) behind SampleEntropy.
+func SampleEntropyCounts(x []float64, m int, r float64) (a, b int64, err error) {
+	if err := checkEntropy(x, m, r); err != nil {
+		return 0, 0, err
+	}
+	n := len(x) - m // templates
+	if n < 2 {
+		return 0, 0, fmt.Errorf("hrv: sample entropy of %d values with m = %d: %w", len(x), m, ErrTooFew)
+	}
+	if len(x) > math.MaxInt32 {
+		return 0, 0, fmt.Errorf("hrv: sample entropy of %d values: %w", len(x), ErrInput)
+	}
+	_, c := sortedTemplates(x, n, m+1)
+	c0 := c[0]
+	if m == 2 {
+		// Unrolled common case.
+		c1, c2 := c[1], c[2]
+		for k := 0; k < n; k++ {
+			v0, v1, v2 := c0[k], c1[k], c2[k]
+			for j := k + 1; j < n && c0[j]-v0 <= r; j++ {
+				if math.Abs(c1[j]-v1) <= r {
+					b++
+					if math.Abs(c2[j]-v2) <= r {
+						a++
+					}
+				}
+			}
+		}
+		return a, b, nil
+	}
+	for k := 0; k < n; k++ {
+		v0 := c0[k]
+		for j := k + 1; j < n && c0[j]-v0 <= r; j++ {
+			ok := true
+			for d := 1; d < m; d++ {
+				if math.Abs(c[d][j]-c[d][k]) > r {
+					ok = false
+					break
+				}
+			}
+			if ok {
+				b++
+				if math.Abs(c[m][j]-c[m][k]) <= r {
+					a++
+				}
+			}
+		}
+	}
+	return a, b, nil
+}
+
+// ApproximateEntropy returns ApEn(m, r) of x (Pincus, PNAS 88(6):2297-2301,
+// 1991): Phi^m = mean over the N-m+1 templates of ln C_i^m, with C_i^m the
+// fraction of templates (self-match included) within r in the maximum norm,
+// and ApEn = Phi^m - Phi^(m+1). ApEn is biased low for short series and
+// depends on N (methods.md 3.3); prefer SampleEntropy. It needs N > m+1.
+// Counting uses the same sorted first-coordinate pruning as SampleEntropy
+// (exact), O(N log N + N K).
+func ApproximateEntropy(x []float64, m int, r float64) (float64, error) {
+	if err := checkEntropy(x, m, r); err != nil {
+		return math.NaN(), err
+	}
+	if len(x) < m+2 {
+		return math.NaN(), fmt.Errorf("hrv: approximate entropy of %d values with m = %d: %w", len(x), m, ErrTooFew)
+	}
+	return phi(x, m, r) - phi(x, m+1, r), nil
+}
+
+// phi computes Pincus' Phi^m(r).
+func phi(x []float64, m int, r float64) float64 {
+	n := len(x) - m + 1
+	_, c := sortedTemplates(x, n, m)
+	cnt := make([]int64, n)
+	for k := range cnt {
+		cnt[k] = 1 // self-match
+	}
+	c0 := c[0]
+	for k := 0; k < n; k++ {
+		for j := k + 1; j < n && c0[j]-c0[k] <= r; j++ {
+			ok := true
+			for d := 1; d < m; d++ {
+				if math.Abs(c[d][j]-c[d][k]) > r {
+					ok = false
+					break
+				}
+			}
+			if ok {
+				cnt[k]++
+				cnt[j]++
+			}
+		}
+	}
+	var s float64
+	for _, v := range cnt {
+		s += math.Log(float64(v) / float64(n))
+	}
+	return s / float64(n)
+}
+
+// DFA returns the detrended fluctuation analysis exponent of x over box sizes
+// minBox..maxBox beats, every integer size (Peng, Havlin, Stanley and
+// Goldberger, Chaos 5(1):82-87, 1995): the profile y(k) = sum_{i<=k}
+// (x_i - mean x) is cut into floor(N/n) non-overlapping boxes from the start,
+// a least-squares line is removed in each (DFA-1), F(n) is the RMS residual,
+// and alpha is the least-squares slope of log F(n) against log n. HRV uses
+// alpha1 over 4..16 and alpha2 over 16..64 beats. It needs N >= maxBox and
+// 2 <= minBox < maxBox; a zero fluctuation gives ErrUndefined.
+// Cost O(N (maxBox - minBox + 1)).
+func DFA(x []float64, minBox, maxBox int) (float64, error) {
+	for i, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return math.NaN(), fmt.Errorf("hrv: DFA: value %d is %v: %w", i, v, ErrInput)
+		}
+	}
+	if minBox < 2 || maxBox <= minBox {
+		return math.NaN(), fmt.Errorf("hrv: DFA boxes %d..%d: %w", minBox, maxBox, ErrInput)
+	}
+	if len(x) < maxBox {
+		return math.NaN(), fmt.Errorf("hrv: DFA of %d values with boxes up to %d: %w", len(x), maxBox, ErrTooFew)
+	}
+	m := mean(x)
+	y := make([]float64, len(x))
+	var s float64
+	for i, v := range x {
+		s += v - m
+		y[i] = s
+	}
+	var sx, sy, sxx, sxy float64
+	cnt := 0
+	for n := minBox; n <= maxBox; n++ {
+		f := fluctuation(y, n)
+		if !(f > 0) {
+			return math.NaN(), fmt.Errorf("hrv: DFA: zero fluctuation at box %d: %w", n, ErrUndefined)
+		}
+		lx, ly := math.Log(float64(n)), math.Log(f)
+		sx += lx
+		sy += ly
+		sxx += lx * lx
+		sxy += lx * ly
+		cnt++
+	}
+	k := float64(cnt)
+	return (k*sxy - sx*sy) / (k*sxx - sx*sx), nil
+}
+
+// fluctuation is F(n): RMS of the profile around per-box least-squares lines.
+func fluctuation(y []float64, n int) float64 {
+	boxes := len(y) / n
+	// Centred abscissa u = k - (n-1)/2 makes slope and intercept independent.
+	c := float64(n-1) / 2
+	var suu float64
+	for k := 0; k < n; k++ {
+		u := float64(k) - c
+		suu += u * u
+	}
+	var total float64
+	for b := 0; b < boxes; b++ {
+		seg := y[b*n : (b+1)*n]
+		var my float64
+		for _, v := range seg {
+			my += v
+		}
+		my /= float64(n)
+		var syy, suy float64
+		for k, v := range seg {
+			d := v - my
+			syy += d * d
+			suy += (float64(k) - c) * d
+		}
+		res := syy - suy*suy/suu
+		if res < 0 {
+			res = 0
+		}
+		total += res
+	}
+	return math.Sqrt(total / float64(boxes*n))
+}

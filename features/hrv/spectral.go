@@ -1,0 +1,370 @@
+package hrv
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/tidalbeat/tidalbeat/internal/dsp"
+)
+
+// Estimator selects the power spectral density estimator.
+type Estimator int
+
+const (
+	// Welch: cubic-spline resampling of the tachogram, detrending, Welch's
+	// averaged periodogram (the default; common practice).
+	Welch Estimator = iota
+	// Lomb: Lomb-Scargle periodogram of the uneven NN series, no resampling
+	// (Moody 1993; Laguna, Moody and Mark 1998).
+	Lomb
+	// Burg: autoregressive spectrum of the resampled, detrended series by
+	// Burg's method (order 16 by default, Boardman et al. 2002).
+	Burg
+)
+
+// String returns "welch", "lomb" or "burg".
+func (e Estimator) String() string {
+	switch e {
+	case Welch:
+		return "welch"
+	case Lomb:
+		return "lomb"
+	case Burg:
+		return "burg"
+	}
+	return fmt.Sprintf("Estimator(%d)", int(e))
+}
+
+// Detrending selects how the NN series is detrended before estimation.
+type Detrending int
+
+const (
+	// SmoothnessPriors removes the smoothness-priors trend (Tarvainen,
+	// Ranta-aho and Karjalainen 2002), the default.
+	SmoothnessPriors Detrending = iota
+	// Linear removes the least-squares line.
+	Linear
+	// MeanOnly removes only the mean.
+	MeanOnly
+)
+
+// Band is a frequency band lo < f <= hi in Hz.
+type Band struct{ Lo, Hi float64 }
+
+// Bands holds the four Task Force bands.
+type Bands struct{ ULF, VLF, LF, HF Band }
+
+// TaskForceBands are the Task Force 1996 band edges: ULF <= 0.003 Hz, VLF
+// 0.003-0.04 Hz, LF 0.04-0.15 Hz, HF 0.15-0.4 Hz.
+var TaskForceBands = Bands{
+	ULF: Band{0, 0.003},
+	VLF: Band{0.003, 0.04},
+	LF:  Band{0.04, 0.15},
+	HF:  Band{0.15, 0.4},
+}
+
+func (b Bands) orDefault() Bands {
+	if b == (Bands{}) {
+		return TaskForceBands
+	}
+	return b
+}
+
+func (b Bands) validate() error {
+	prev := 0.0
+	for i, x := range []Band{b.ULF, b.VLF, b.LF, b.HF} {
+		if math.IsNaN(x.Lo) || math.IsNaN(x.Hi) || x.Lo < prev || !(x.Hi > x.Lo) || math.IsInf(x.Hi, 0) {
+			return fmt.Errorf("hrv: band %d [%v, %v] Hz must be increasing and contiguous-or-ascending: %w", i, x.Lo, x.Hi, ErrInput)
+		}
+		prev = x.Hi
+	}
+	return nil
+}
+
+// SpectrumOptions configures Spectrum. Zero values mean the defaults.
+type SpectrumOptions struct {
+	Estimator Estimator  // Welch when zero
+	Detrend   Detrending // SmoothnessPriors when zero
+	// Lambda is the smoothness-priors parameter; 500 when zero (with 4 Hz
+	// resampling its high-pass |H| = 0.707 lies near 0.035 Hz, methods.md
+	// 2.6, computed; the pairing is commonly used, from memory). For Lomb
+	// the series is detrended by beat index, and the default is scaled to
+	// the same corner frequency: 500 (1/(4 T))^2 with T the mean interval
+	// in s (the response depends on lambda^2 sin^4(pi f/fs), so equal
+	// corners need lambda proportional to fs^2; derived).
+	Lambda float64
+	// ResampleHz is the cubic-spline resampling rate for Welch and Burg; 4
+	// when zero (common practice).
+	ResampleHz float64
+	// Segment, Overlap and NFFT configure Welch (in resampled samples):
+	// 256 (64 s at 4 Hz), 128 and 1024 when zero (common practice; the
+	// zero padding only refines the frequency grid).
+	Segment, Overlap, NFFT int
+	// Order is the Burg model order; 16 when zero (Boardman, Schlindwein,
+	// Rocha and Leite, Physiol Meas 23:325-336, 2002: at least 16).
+	Order int
+	// MaxHz is the highest frequency of the Lomb and Burg grids; 0.5 when
+	// zero. StepHz is their grid step: 1/(4 T) for Lomb (T the series span,
+	// four-fold oversampling) and 0.0005 Hz for Burg when zero (AR peaks can
+	// be much narrower than the Welch resolution; band powers are sums over
+	// the grid, so the grid must resolve them).
+	MaxHz, StepHz float64
+}
+
+// PSD is a one-sided power spectral density of an NN series on a uniform
+// frequency grid FreqHz[k] = k * StepHz (k from 0 for Welch and Burg, from 1
+// for Lomb); Power is in ms^2/Hz, so band powers are sums of Power * StepHz.
+type PSD struct {
+	FreqHz    []float64
+	Power     []float64 // ms^2/Hz
+	StepHz    float64
+	Estimator Estimator
+}
+
+// BandPower returns the power in lo < f <= hi (ms^2): the sum of
+// Power * StepHz over the grid frequencies in the band (rectangle rule,
+// consistent with Parseval on the grid).
+func (p PSD) BandPower(b Band) float64 {
+	var s float64
+	for k, f := range p.FreqHz {
+		if f > b.Lo && f <= b.Hi {
+			s += p.Power[k]
+		}
+	}
+	return s * p.StepHz
+}
+
+// Peak returns the frequency of the largest PSD value in the band (Hz), or
+// NaN when the band holds no grid point or no power.
+func (p PSD) Peak(b Band) float64 {
+	best, bf := 0.0, math.NaN()
+	for k, f := range p.FreqHz {
+		if f > b.Lo && f <= b.Hi && p.Power[k] > best {
+			best, bf = p.Power[k], f
+		}
+	}
+	return bf
+}
+
+// Spectrum estimates the PSD of the NN series nnMs whose interval i ends at
+// endS[i] seconds (nil: cumulative sums of nnMs from 0). The tachogram point
+// of each interval sits at its ending beat. Welch and Burg resample it by the
+// not-a-knot cubic spline at ResampleHz over [endS[0], endS[last]], detrend,
+// then estimate; Lomb detrends the uneven values by index and evaluates the
+// Lomb-Scargle periodogram scaled to a one-sided density 2 T P(2 pi f), T the
+// mean interval between samples (methods.md 2.6, derived; Parseval holds on
+// the grid). It needs at least 4 intervals and a non-degenerate span.
+func Spectrum(nnMs, endS []float64, opt SpectrumOptions) (PSD, error) {
+	var w spectrumWork
+	return w.spectrum(nnMs, endS, opt)
+}
+
+// spectrumWork holds reusable buffers for Compute's hot path.
+type spectrumWork struct {
+	y, z []float64
+}
+
+func (w *spectrumWork) spectrum(nnMs, endS []float64, opt SpectrumOptions) (PSD, error) {
+	p, err := w.estimate(nnMs, endS, opt)
+	if err == nil && allEqual(nnMs) {
+		// A constant series has no variability: every band power is 0
+		// (methods.md 2.7, derived), not the rounding residue of detrending.
+		for k := range p.Power {
+			p.Power[k] = 0
+		}
+	}
+	return p, err
+}
+
+func allEqual(x []float64) bool {
+	for _, v := range x {
+		if v != x[0] {
+			return false
+		}
+	}
+	return true
+}
+
+func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD, error) {
+	if err := checkNN(nnMs); err != nil {
+		return PSD{}, err
+	}
+	if endS == nil {
+		endS = cumulative(nnMs)
+	}
+	if err := checkTimes(nnMs, endS); err != nil {
+		return PSD{}, err
+	}
+	if len(nnMs) < 4 {
+		return PSD{}, fmt.Errorf("hrv: spectrum of %d intervals, need 4: %w", len(nnMs), ErrTooFew)
+	}
+	fs := opt.ResampleHz
+	if fs == 0 {
+		fs = 4
+	}
+	if !(fs > 0) || math.IsInf(fs, 0) {
+		return PSD{}, fmt.Errorf("hrv: resampling rate %v Hz: %w", fs, ErrInput)
+	}
+	maxHz := opt.MaxHz
+	if maxHz == 0 {
+		maxHz = 0.5
+	}
+	if !(maxHz > 0) || math.IsInf(maxHz, 0) {
+		return PSD{}, fmt.Errorf("hrv: max frequency %v Hz: %w", maxHz, ErrInput)
+	}
+	span := endS[len(endS)-1] - endS[0]
+	switch opt.Estimator {
+	case Welch, Burg:
+		sp, err := dsp.NewSpline(endS, nnMs)
+		if err != nil {
+			return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
+		}
+		n := int(math.Floor(span*fs)) + 1
+		if n < 4 {
+			return PSD{}, fmt.Errorf("hrv: spectrum: span %v s gives %d samples at %v Hz: %w", span, n, fs, ErrTooFew)
+		}
+		w.y = sp.Sample(w.y[:0], endS[0], fs, n)
+		lam := opt.Lambda
+		if lam == 0 {
+			lam = 500
+		}
+		z, err := w.detrend(w.y, opt.Detrend, lam)
+		if err != nil {
+			return PSD{}, err
+		}
+		nfft := opt.NFFT
+		if nfft == 0 {
+			nfft = 1024
+		}
+		if opt.Estimator == Welch {
+			seg := opt.Segment
+			if seg == 0 {
+				seg = 256
+			}
+			if nfft < min(seg, len(z)) {
+				nfft = min(seg, len(z))
+			}
+			f, p, err := dsp.Welch(z, fs, dsp.WelchOptions{Segment: seg, Overlap: opt.Overlap, NFFT: nfft, Detrend: dsp.SegmentNone})
+			if err != nil {
+				return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
+			}
+			return PSD{FreqHz: f, Power: p, StepHz: f[1] - f[0], Estimator: Welch}, nil
+		}
+		order := opt.Order
+		if order == 0 {
+			order = 16
+		}
+		if order < 1 || order >= len(z) {
+			return PSD{}, fmt.Errorf("hrv: Burg order %d for %d samples: %w", order, len(z), ErrTooFew)
+		}
+		step := opt.StepHz
+		if step == 0 {
+			step = 0.0005
+		}
+		if !(step > 0) || maxHz/step > 1e6 {
+			return PSD{}, fmt.Errorf("hrv: Burg grid step %v Hz up to %v Hz: %w", step, maxHz, ErrInput)
+		}
+		freqs := grid(0, step, math.Min(maxHz, fs/2))
+		if allZero(z) {
+			return PSD{FreqHz: freqs, Power: make([]float64, len(freqs)), StepHz: step, Estimator: Burg}, nil
+		}
+		a, v, err := dsp.Burg(z, order)
+		if err != nil {
+			return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
+		}
+		return PSD{FreqHz: freqs, Power: dsp.ARSpectrum(nil, a, v, fs, freqs), StepHz: step, Estimator: Burg}, nil
+	case Lomb:
+		if !(span > 0) {
+			return PSD{}, fmt.Errorf("hrv: spectrum: span %v s: %w", span, ErrTooFew)
+		}
+		tbar := span / float64(len(endS)-1)
+		lam := opt.Lambda
+		if lam == 0 {
+			q := 1 / (4 * tbar)
+			lam = 500 * q * q
+		}
+		z, err := w.detrend(nnMs, opt.Detrend, lam)
+		if err != nil {
+			return PSD{}, err
+		}
+		step := opt.StepHz
+		if step == 0 {
+			step = 1 / (4 * span)
+		}
+		if !(step > 0) || maxHz/step > 1e6 {
+			return PSD{}, fmt.Errorf("hrv: Lomb grid step %v Hz up to %v Hz: %w", step, maxHz, ErrInput)
+		}
+		freqs := grid(step, step, maxHz)
+		om := make([]float64, len(freqs))
+		for k, f := range freqs {
+			om[k] = 2 * math.Pi * f
+		}
+		// Times relative to the first sample keep the phases accurate.
+		t := make([]float64, len(endS))
+		for i, v := range endS {
+			t[i] = v - endS[0]
+		}
+		p, err := dsp.LombScargle(nil, t, z, om)
+		if err != nil {
+			return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
+		}
+		for k := range p {
+			p[k] *= 2 * tbar
+		}
+		return PSD{FreqHz: freqs, Power: p, StepHz: step, Estimator: Lomb}, nil
+	}
+	return PSD{}, fmt.Errorf("hrv: unknown estimator %d: %w", int(opt.Estimator), ErrInput)
+}
+
+func (w *spectrumWork) detrend(y []float64, d Detrending, lambda float64) ([]float64, error) {
+	var err error
+	switch d {
+	case SmoothnessPriors:
+		w.z, err = dsp.DetrendSmoothness(w.z[:0], y, lambda)
+		if err != nil {
+			return nil, fmt.Errorf("hrv: detrend: %w", err)
+		}
+	case Linear:
+		w.z = dsp.DetrendLinear(w.z[:0], y)
+	case MeanOnly:
+		m := mean(y)
+		w.z = w.z[:0]
+		for _, v := range y {
+			w.z = append(w.z, v-m)
+		}
+	default:
+		return nil, fmt.Errorf("hrv: unknown detrending %d: %w", int(d), ErrInput)
+	}
+	return w.z, nil
+}
+
+func grid(from, step, to float64) []float64 {
+	var f []float64
+	for k := 0; ; k++ {
+		v := from + float64(k)*step
+		if v > to*(1+1e-12) {
+			return f
+		}
+		f = append(f, v)
+	}
+}
+
+func allZero(x []float64) bool {
+	for _, v := range x {
+		if v != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// cumulative returns the end times (s) of contiguous intervals starting at 0.
+func cumulative(nnMs []float64) []float64 {
+	t := make([]float64, len(nnMs))
+	var s float64
+	for i, v := range nnMs {
+		s += v
+		t[i] = s / 1000
+	}
+	return t
+}
