@@ -11,14 +11,6 @@ type ResampleReport struct{}
 // CSVOptions adjusts the CSV reader.
 type CSVOptions struct{}
 
-func readEDFFile(path string) (*Recording, error) {
-	return nil, fmt.Errorf("edf %s: reader not built yet: %w", path, ErrFormat)
-}
-
-func openEDFStream(path string) (*Reader, error) {
-	return nil, fmt.Errorf("edf %s: reader not built yet: %w", path, ErrFormat)
-}
-
 func readCSVFile(path string, _ CSVOptions) (*Recording, error) {
 	return nil, fmt.Errorf("csv %s: reader not built yet: %w", path, ErrFormat)
 }

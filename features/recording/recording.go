@@ -24,6 +24,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"sort"
 	"strings"
 	"time"
 
@@ -295,4 +296,9 @@ func fileSize(path string) (int64, error) {
 		return 0, err
 	}
 	return st.Size(), nil
+}
+
+// sortAnnotations sorts by time, keeping the order of equal times.
+func sortAnnotations(a []Annotation) {
+	sort.SliceStable(a, func(i, j int) bool { return a[i].Time < a[j].Time })
 }

@@ -30,9 +30,10 @@ type Reader struct {
 	// until the end is reached.
 	Frames int64
 
-	src  chunkSource
-	pos  int64 // frames delivered so far
-	done bool
+	src   chunkSource
+	pos   int64   // frames delivered so far
+	count []int64 // samples delivered so far, per channel
+	done  bool
 }
 
 // Chunk is a run of consecutive frames read by Reader.Next.
@@ -40,6 +41,11 @@ type Chunk struct {
 	Frame int64   // index of the first frame
 	N     int     // number of frames in the chunk
 	Start float64 // time of the first frame, seconds from the recording start
+	// First[i] is the index of channel i's first sample in the chunk;
+	// that sample is at First[i]/RateHz seconds. For EDF+D files, whose
+	// discontinuities are filled with NaN, a chunk's channels may hold
+	// more than N*SamplesPerFrame[i] samples.
+	First []int64
 	// Samples[i] holds channel i's samples for the chunk's frames
 	// (len = frames*SamplesPerFrame[i]), physical units, NaN = invalid.
 	Samples [][]float64
@@ -98,7 +104,10 @@ func (r *Reader) Next(maxFrames int) (Chunk, error) {
 		maxFrames = 1
 	}
 	n := len(r.Info.Channels)
-	c := Chunk{Frame: r.pos, Start: float64(r.pos) / r.FrameHz, Samples: make([][]float64, n), Gaps: make([][]window.Interval, n)}
+	if r.count == nil {
+		r.count = make([]int64, n)
+	}
+	c := Chunk{Frame: r.pos, Start: float64(r.pos) / r.FrameHz, Samples: make([][]float64, n), Gaps: make([][]window.Interval, n), First: append([]int64(nil), r.count...)}
 	for i := range c.Samples {
 		c.Samples[i] = make([]float64, 0, min(maxFrames, 1<<16)*r.SamplesPerFrame[i])
 	}
@@ -111,8 +120,9 @@ func (r *Reader) Next(maxFrames int) (Chunk, error) {
 		return Chunk{}, err
 	}
 	for i, s := range c.Samples {
-		rate := r.FrameHz * float64(r.SamplesPerFrame[i])
-		c.Gaps[i] = window.InvalidRuns(nil, s, rate, float64(r.pos*int64(r.SamplesPerFrame[i]))/rate)
+		rate := r.Info.Channels[i].RateHz
+		c.Gaps[i] = window.InvalidRuns(nil, s, rate, float64(r.count[i])/rate)
+		r.count[i] += int64(len(s))
 	}
 	c.N = got
 	r.pos += int64(got)
