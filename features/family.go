@@ -95,6 +95,12 @@ type famResult struct {
 // combines the channels' coverage (the minimum: a window is only as covered
 // as its worst channel), skips the core for invalid windows and records why.
 func (f *family) runWindow(segs []seg) famResult {
+	return f.runWindowWith(segs, func(out cells) string { return f.core(segs, out) })
+}
+
+// runWindowWith is runWindow with the core given as a closure (event
+// families pass their events this way).
+func (f *family) runWindowWith(segs []seg, core func(out cells) string) famResult {
 	r := famResult{seq: segs[0].w.Seq, coverage: math.Inf(1)}
 	reason := ""
 	for _, s := range segs {
@@ -121,7 +127,7 @@ func (f *family) runWindow(segs []seg) famResult {
 		r.reason = reason
 		return r
 	}
-	r.reason = f.core(segs, cells{r.v, r.t})
+	r.reason = core(cells{r.v, r.t})
 	return r
 }
 
