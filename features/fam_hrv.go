@@ -15,7 +15,13 @@ import (
 // hrvCols are the HRV family's columns: the beats in the window, then the
 // hrv package's own Columns verbatim (hrv_n_nn first).
 func hrvCols() []Column {
-	cols := []Column{{Name: "hrv_n_beats", Kind: Int, Doc: "beats (R-peaks or beat annotations) inside the window"}}
+	cols := []Column{
+		{Name: "hrv_n_beats", Kind: Int, Doc: "beats (R-peaks or beat annotations) inside the window"},
+		{Name: "hrv_n_ectopic", Kind: Int, Doc: "detected beats classed ectopic by NN cleaning (adjacent intervals interpolated); empty for annotated beats"},
+		{Name: "hrv_n_missed", Kind: Int, Doc: "missed beats inserted by NN cleaning; empty for annotated beats"},
+		{Name: "hrv_n_extra", Kind: Int, Doc: "extra detections removed by NN cleaning; empty for annotated beats"},
+		{Name: "hrv_n_removed", Kind: Int, Doc: "intervals removed by NN cleaning (physiological limits, percentage rule); empty for annotated beats"},
+	}
 	for _, c := range hrv.ColumnInfo() {
 		k := Float
 		if c.Count {
@@ -33,38 +39,60 @@ type beat struct {
 	normal bool
 }
 
+// hrvExtra is the number of bookkeeping columns before hrv.Columns.
+const hrvExtra = 5
+
 // hrvCore turns the beats of one window into the family's values. Both
-// drivers call it. NN intervals join consecutive beats that are both inside
-// the window and both normal (methods reference 7: "an NN interval belongs
-// if both beats do"), and do not span a gap (an interval across lost signal
-// is not an RR interval).
-func hrvCore(w window.Window, beats []beat, gaps []window.Interval, length float64, out cells) string {
+// drivers call it with the beats inside the window (methods reference 7:
+// "an NN interval belongs if both beats do").
+//
+// Detected beats (all marked normal) are cleaned per window by
+// ecg.CleanRR (Lipponen and Tarvainen 2019 by default; intervals across a
+// gap are not formed), so every window is treated like a stand-alone
+// short-term recording and the result cannot depend on how the data were
+// chunked. Annotated beats join consecutive normal beats ("N") not
+// separated by a gap, uncorrected (reference annotations).
+func hrvCore(w window.Window, beats []beat, gaps []window.Interval, length float64, detected bool, out cells) string {
 	out.v[0] = float64(len(beats))
 	var nn, end []float64
-	gi := 0
-	for i := 1; i < len(beats); i++ {
-		a, b := beats[i-1], beats[i]
-		if !a.normal || !b.normal {
-			continue
+	var corrected []bool
+	if detected {
+		times := make([]float64, len(beats))
+		for i, b := range beats {
+			times[i] = b.t
 		}
-		for gi < len(gaps) && gaps[gi].End <= a.t {
-			gi++
+		c, err := ecg.CleanRR(times, gaps, ecg.NNOptions{})
+		if err != nil {
+			return "NN cleaning: " + err.Error()
 		}
-		crosses := false
-		for j := gi; j < len(gaps) && gaps[j].Start < b.t; j++ {
-			if gaps[j].End > a.t {
-				crosses = true
-				break
+		out.v[1], out.v[2], out.v[3] = float64(c.Counts.Ectopic), float64(c.Counts.Missed), float64(c.Counts.Extra)
+		out.v[4] = float64(c.Counts.OutOfRange + c.Counts.Percent)
+		nn = c.Ms
+		corrected = make([]bool, len(c.Fix))
+		end = make([]float64, len(c.TimeS))
+		for i := range c.TimeS {
+			end[i] = c.TimeS[i] - w.Start
+			corrected[i] = c.Fix[i] != ecg.FixNone
+		}
+	} else {
+		gi := 0
+		for i := 1; i < len(beats); i++ {
+			a, b := beats[i-1], beats[i]
+			if !a.normal || !b.normal {
+				continue
 			}
+			for gi < len(gaps) && gaps[gi].End <= a.t {
+				gi++
+			}
+			if gi < len(gaps) && gaps[gi].Start < b.t {
+				continue // an interval across lost data is not an RR interval
+			}
+			nn = append(nn, (b.t-a.t)*1000)
+			end = append(end, b.t-w.Start)
 		}
-		if crosses {
-			continue
-		}
-		nn = append(nn, (b.t-a.t)*1000)
-		end = append(end, b.t-w.Start)
 	}
-	m := hrv.Compute(nn, end, hrv.Options{WindowS: length})
-	m.AppendValues(out.v[:1])
+	m := hrv.Compute(nn, end, hrv.Options{WindowS: length, Corrected: corrected})
+	m.AppendValues(out.v[:hrvExtra])
 	return hrvReason(m)
 }
 
@@ -114,7 +142,7 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 		sort.SliceStable(beats, func(i, j int) bool { return beats[i].t < beats[j].t })
 		end := dataEnd(rec, nil)
 		f.batchFn = func(g window.Grid) ([]famResult, error) {
-			return hrvBatch(f, g, beats, end, nil, length)
+			return hrvBatch(f, g, beats, end, nil, length, false)
 		}
 		return f
 	}
@@ -146,7 +174,7 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 		if err != nil {
 			return nil, err
 		}
-		return hrvBatch(f, g, beats, float64(len(in.x))/rate, gaps, length)
+		return hrvBatch(f, g, beats, float64(len(in.x))/rate, gaps, length, true)
 	}
 	f.newDriver = func(g window.Grid) (driver, error) {
 		det, err := ecg.NewDetector(rate, ecg.Options{})
@@ -164,7 +192,7 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 
 // hrvBatch lays the grid over the beats (window.Grid.Events) and runs the
 // core per window.
-func hrvBatch(f *family, g window.Grid, beats []beat, end float64, gaps []window.Interval, length float64) ([]famResult, error) {
+func hrvBatch(f *family, g window.Grid, beats []beat, end float64, gaps []window.Interval, length float64, detected bool) ([]famResult, error) {
 	times := make([]float64, len(beats))
 	for i, b := range beats {
 		times[i] = b.t
@@ -176,7 +204,7 @@ func hrvBatch(f *family, g window.Grid, beats []beat, end float64, gaps []window
 	}
 	var out []famResult
 	for w := range it {
-		out = append(out, f.runEvents(w, beats[w.Lo:w.Hi], gaps, length))
+		out = append(out, f.runEvents(w, beats[w.Lo:w.Hi], gaps, length, detected))
 	}
 	return out, nil
 }
@@ -190,9 +218,9 @@ func lastTime(t []float64) float64 {
 
 // runEvents is runWindow for an event family with one input: invalid
 // windows keep empty values and the engine's reason.
-func (f *family) runEvents(w window.Window, beats []beat, gaps []window.Interval, length float64) famResult {
+func (f *family) runEvents(w window.Window, beats []beat, gaps []window.Interval, length float64, detected bool) famResult {
 	return f.runWindowWith([]seg{{w: w, ok: true}}, func(out cells) string {
-		return hrvCore(w, beats, gaps, length, out)
+		return hrvCore(w, beats, gaps, length, detected, out)
 	})
 }
 
@@ -328,7 +356,7 @@ func (d *hrvDriver) collect() []famResult {
 		if err != nil {
 			gs = d.gaps
 		}
-		out = append(out, d.f.runEvents(w, items, gs, d.length))
+		out = append(out, d.f.runEvents(w, items, gs, d.length, true))
 		d.last = w.Seq
 		// Gaps ending before the next window's start are no longer needed.
 		k := 0
