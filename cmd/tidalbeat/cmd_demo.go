@@ -8,6 +8,7 @@ import (
 	"sort"
 	"text/tabwriter"
 
+	"github.com/tidalbeat/tidalbeat/features"
 	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/features/report"
 	"github.com/tidalbeat/tidalbeat/internal/sim"
@@ -50,11 +51,26 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	a.Input.Title = "Tidalbeat demo: a trail runner's training day (simulated)"
+	var paths []string
+	for _, name := range []string{"features.csv", "features.parquet"} {
+		p := filepath.Join(*dir, name)
+		cols, err := features.WriteFile(p, features.WriteOptions{}, a.Table)
+		if err != nil {
+			return err
+		}
+		meta := features.Meta{Records: []string{rec.Name}, Columns: cols,
+			Notes: []string{fmt.Sprintf("built-in simulated recording (internal/sim DaySimulate, seed %d)", *seed)}}
+		if err := features.WriteSidecar(p, meta); err != nil {
+			return err
+		}
+		paths = append(paths, p)
+	}
 	reportPath := filepath.Join(*dir, "report.html")
 	if err := writeReport(reportPath, a.Input); err != nil {
 		return err
 	}
-	printDemoSummary(stdout, *seed, day, a, []string{reportPath})
+	paths = append(paths, reportPath)
+	printDemoSummary(stdout, *seed, day, a, paths)
 	return nil
 }
 
@@ -107,21 +123,24 @@ func printDemoSummary(w io.Writer, seed uint64, d *sim.DayRecording, a *report.A
 	fmt.Fprintf(w, "beats: %d detected; %d simulated (%d inside the %.0f s lead-off gap)\n",
 		len(a.RPeaksS), len(tr.Beats), hidden, totalLen(tr.LeadOff))
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
-	fmt.Fprintln(tw, "segment\tmean HR found\tsimulated (beats/min)\tsteps found\tsimulated")
+	fmt.Fprintln(tw, "segment\tHR found\tsimulated (beats/min)\tbreaths/min found\tsimulated\tsteps found\tsimulated")
+	var stepsFound float64
 	for _, s := range tr.Segments {
-		lo := sort.SearchFloat64s(a.StepsS, s.StartS)
-		hi := sort.SearchFloat64s(a.StepsS, s.EndS)
-		fmt.Fprintf(tw, "%s\t%.1f\t%.1f\t%d\t%d\n", s.Label, a.MeanHR(s.StartS, s.EndS), tr.MeanHR(s.StartS, s.EndS), hi-lo, tr.StepsIn(s.StartS, s.EndS))
+		steps, _ := a.StepsIn(s.StartS, s.EndS)
+		stepsFound += steps
+		fmt.Fprintf(tw, "%s\t%.1f\t%.1f\t%.1f\t%.1f\t%.0f\t%d\n", s.Label, a.MeanHR(s.StartS, s.EndS), tr.MeanHR(s.StartS, s.EndS),
+			a.BreathRate(s.StartS, s.EndS), tr.BreathRate(s.StartS, s.EndS), steps, tr.StepsIn(s.StartS, s.EndS))
 	}
 	tw.Flush()
-	fmt.Fprintf(w, "steps: %d found, %d simulated\n", len(a.StepsS), len(tr.Steps))
+	fmt.Fprintf(w, "steps: %.0f found in the feature table, %d simulated\n", stepsFound, len(tr.Steps))
 	nb := 0
 	for _, b := range tr.Breaths {
 		if !b.Obstructed {
 			nb++
 		}
 	}
-	fmt.Fprintf(w, "breaths: %d simulated (%d apneas of %.0f s in all); breath detection not in this build\n", nb, len(tr.Apneas), totalLen(tr.Apneas))
+	fmt.Fprintf(w, "breaths: %d detected, %d simulated\n", len(a.Breaths), nb)
+	fmt.Fprintf(w, "apneas: %d simulated (%.0f s in all); event detection not in this build\n", len(tr.Apneas), totalLen(tr.Apneas))
 	for _, m := range a.Missing {
 		fmt.Fprintf(w, "not analysed: %s\n", m)
 	}

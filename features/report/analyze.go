@@ -3,20 +3,19 @@ package report
 import (
 	"fmt"
 	"math"
-	"sort"
-	"time"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
+	"github.com/tidalbeat/tidalbeat/features"
 	"github.com/tidalbeat/tidalbeat/features/recording"
-	"github.com/tidalbeat/tidalbeat/motion"
+	"github.com/tidalbeat/tidalbeat/resp"
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
 // Options adjusts Analyze. The zero value means the documented defaults.
 type Options struct {
-	// EpochS is the activity epoch, s; 30 when zero (the feature table's
-	// default activity window, common practice).
-	EpochS float64
+	// Features configures the feature table the per-window figures are drawn
+	// from (features.Extract; its zero value means its defaults).
+	Features features.Config
 	// ExcerptS is the length of the breathing-trace excerpt, s; 180 when
 	// zero. The excerpt is centred on the first candidate event when there
 	// is one, otherwise it starts at the first breath.
@@ -24,9 +23,6 @@ type Options struct {
 }
 
 func (o Options) withDefaults() Options {
-	if o.EpochS == 0 {
-		o.EpochS = 30
-	}
 	if o.ExcerptS == 0 {
 		o.ExcerptS = 180
 	}
@@ -41,19 +37,24 @@ type Analysis struct {
 	RPeaksS []float64
 	// ECGGaps are the spans of unusable ECG.
 	ECGGaps []window.Interval
-	// StepsS are the detected step times, s.
-	StepsS []float64
-	// Epochs are the activity epochs.
-	Epochs []motion.Epoch
+	// Breaths are the detected breaths (resp.Detect on the QDC-weighted
+	// band sum); BreathCalibration the weights used.
+	Breaths           []resp.Breath
+	BreathCalibration resp.Calibration
+	// Table is the feature table of the recording (features.Extract), the
+	// source of every per-window figure.
+	Table *features.Table
 	// Missing lists the modalities the recording lacks or that failed, with
 	// the reason, in the order ECG, breathing, motion.
 	Missing []string
 }
 
-// Analyze runs the modality packages over rec and fills a report Input.
-// A missing modality leaves its figures empty (they say so) and is listed
-// in Analysis.Missing; only a recording with no usable channel at all is an
-// error.
+// Analyze fills a report Input for rec: the feature table (features.Extract)
+// gives every per-window figure (trends, activity, posture, steps, quality);
+// the beat-level figures come from the modality packages (R-peaks by
+// Pan-Tompkins for the tachogram and Poincare plot). A missing modality
+// leaves its figures empty (they say so) and is listed in Analysis.Missing.
+// Errors come only from the feature extraction itself.
 func Analyze(rec *recording.Recording, opt Options) (*Analysis, error) {
 	if rec == nil {
 		return nil, fmt.Errorf("report: nil recording: %w", ErrInput)
@@ -72,9 +73,15 @@ func Analyze(rec *recording.Recording, opt Options) (*Analysis, error) {
 	if err := a.heart(rec); err != nil {
 		a.Missing = append(a.Missing, "ECG: "+err.Error())
 	}
-	if err := a.motion(rec, opt); err != nil {
-		a.Missing = append(a.Missing, "motion: "+err.Error())
+	if err := a.breathing(rec, opt); err != nil {
+		a.Missing = append(a.Missing, "breaths: "+err.Error())
 	}
+	t, err := features.Extract(rec, opt.Features)
+	if err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	a.Table = t
+	a.fromTable(opt.Features)
 	a.segmentStats()
 	for _, m := range a.Missing {
 		in.Facts = append(in.Facts, Fact{Name: "not analysed", Value: m})
@@ -145,63 +152,127 @@ func spansGap(t0, t1 float64, gaps []window.Interval) bool {
 	return false
 }
 
-// motion derives steps, posture and per-epoch activity from the
-// accelerometer axes.
-func (a *Analysis) motion(rec *recording.Recording, opt Options) error {
-	x, okx := rec.Channel(recording.RoleAccX)
-	y, oky := rec.Channel(recording.RoleAccY)
-	z, okz := rec.Channel(recording.RoleAccZ)
-	if !okx || !oky || !okz {
-		return fmt.Errorf("no 3-axis accelerometer")
+// qdcSpanS is the stretch of natural breathing the relative calibration is
+// taken from: the first 5 minutes (Sackner et al. 1989 used about 5 min).
+const qdcSpanS = 300
+
+// breathing detects breaths on the bands, weighted by QDC over the first
+// qdcSpanS (equal weights when QDC is undefined), and keeps an excerpt of
+// the weighted sum for the breathing-trace figure.
+func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
+	rc, okr := rec.Channel(recording.RoleRibCage)
+	ab, oka := rec.Channel(recording.RoleAbdomen)
+	if !okr || !oka {
+		return fmt.Errorf("needs both a rib-cage and an abdominal band")
 	}
-	if x.RateHz != y.RateHz || x.RateHz != z.RateHz {
-		return fmt.Errorf("accelerometer axes at different rates (%g, %g, %g Hz)", x.RateHz, y.RateHz, z.RateHz)
+	if rc.RateHz != ab.RateHz {
+		return fmt.Errorf("bands at different rates (%g, %g Hz)", rc.RateHz, ab.RateHz)
 	}
-	n := min(len(x.Samples), len(y.Samples), len(z.Samples))
-	unit, err := motion.ParseUnit(x.Unit)
+	n := min(len(rc.Samples), len(ab.Samples))
+	ropt := resp.Options{RateHz: rc.RateHz}
+	q := min(n, int(qdcSpanS*rc.RateHz))
+	cal := resp.Calibration{}
+	note := "equal band weights (QDC undefined on the first 5 min)"
+	if qr, err := resp.QDC(rc.Samples[:q], ab.Samples[:q], ropt, resp.QDCOptions{}); err == nil && isFinite(qr.K) && qr.K > 0 {
+		cal = qr.Calibration()
+		note = fmt.Sprintf("QDC weight K = %.3f from %d of %d breaths in the first 5 min (relative calibration; %s)", qr.K, qr.Used, qr.Total, resp.QDCCaveat)
+	}
+	ropt.Calibration = cal
+	res, err := resp.Detect(rc.Samples[:n], ab.Samples[:n], ropt)
 	if err != nil {
 		return err
 	}
-	mopt := motion.Options{Unit: unit}
-	tr, err := motion.Derive(x.Samples[:n], y.Samples[:n], z.Samples[:n], x.RateHz, mopt)
-	if err != nil {
-		return err
-	}
-	origin := rec.Start
-	if origin.IsZero() {
-		origin = time.Unix(0, 0).UTC()
-	}
-	spec := window.Spec{Length: time.Duration(opt.EpochS * float64(time.Second)), Step: time.Duration(opt.EpochS * float64(time.Second)), Anchor: window.AnchorStart}
-	eps, err := motion.EpochsOf(tr, origin, spec, nil, mopt)
-	if err != nil {
-		return err
-	}
-	a.StepsS, a.Epochs = tr.StepTimes, eps
-	act := &a.Input.Activity
-	act.EpochS = opt.EpochS
-	q := QualityRow{Family: "motion"}
-	for _, e := range eps {
-		act.TimeS = append(act.TimeS, e.Start)
-		act.ENMOmg = append(act.ENMOmg, e.ENMOmg)
-		act.MADmg = append(act.MADmg, e.MADmg)
-		act.Steps = append(act.Steps, float64(e.Steps))
-		p := ""
-		if e.Posture != motion.PostureUnknown {
-			p = e.Posture.String()
+	a.Breaths, a.BreathCalibration = res.Breaths, cal
+	in := a.Input
+	in.Facts = append(in.Facts, Fact{Name: "breaths detected", Value: fmt.Sprintf("%d; %s", len(res.Breaths), note)})
+	// Excerpt: centred on the longest pause between breaths (an apnea when
+	// there is one), else from the first breath.
+	centre, longest := 0.0, 0.0
+	for i := 1; i < len(res.Breaths); i++ {
+		if d := res.Breaths[i].Onset - res.Breaths[i-1].EndExp; d > longest {
+			longest, centre = d, (res.Breaths[i].Onset+res.Breaths[i-1].EndExp)/2
 		}
-		act.Posture = append(act.Posture, p)
-		q.TimeS, q.EndS = append(q.TimeS, e.Start), append(q.EndS, e.End)
-		score := e.Coverage
-		if !e.Valid {
-			score = 0
-		} else if e.Artefact {
-			score *= 0.5
-		}
-		q.Score = append(q.Score, score)
 	}
-	a.Input.Quality = append(a.Input.Quality, q)
-	a.Input.Facts = append(a.Input.Facts, Fact{Name: "steps detected", Value: fmt.Sprintf("%d", len(tr.StepTimes))})
+	t0 := centre - opt.ExcerptS/2
+	why := fmt.Sprintf("Excerpt centred on the longest pause between breaths (%.0f s).", longest)
+	if len(res.Breaths) > 0 && longest < 10 {
+		t0 = res.Breaths[0].Onset
+		why = "Excerpt from the first breath (no pause of 10 s or more)."
+	}
+	t0 = math.Max(0, math.Min(t0, float64(n)/rc.RateHz-opt.ExcerptS))
+	i0, i1 := int(t0*rc.RateHz), min(n, int((t0+opt.ExcerptS)*rc.RateHz))
+	rw, aw := cal.RibWeight, cal.AbdWeight
+	if rw == 0 && aw == 0 {
+		rw, aw = 1, 1
+	}
+	b := &in.Breath
+	b.T0S, b.RateHz, b.Unit, b.Note = float64(i0)/rc.RateHz, rc.RateHz, cal.VolumeUnit(), why+" Weighted band sum, unfiltered."
+	for i := i0; i < i1; i++ {
+		b.Samples = append(b.Samples, rw*rc.Samples[i]+aw*ab.Samples[i])
+	}
+	for _, br := range res.Breaths {
+		b.Peaks = append(b.Peaks, br.EndInsp)
+		b.Troughs = append(b.Troughs, br.EndExp)
+	}
 	return nil
+}
+
+// fromTable fills the per-window parts of the report from the feature
+// table: activity, posture and steps per row, and each family's quality.
+func (a *Analysis) fromTable(cfg features.Config) {
+	t, in := a.Table, a.Input
+	step := cfg.Step
+	if step == 0 {
+		step = features.DefaultStep
+	}
+	stepS := step.Seconds()
+	times := make([]float64, len(t.Rows))
+	for i, r := range t.Rows {
+		times[i] = r.Offset
+	}
+	// Activity: the window ending at each row time; drawn from its start.
+	if t.Col("enmo_mg") >= 0 {
+		act := &in.Activity
+		win := cfg.ActivityWindow
+		if win == 0 {
+			win = features.DefaultActivityWindow
+		}
+		act.EpochS = win.Seconds()
+		for _, x := range times {
+			act.TimeS = append(act.TimeS, x-act.EpochS)
+		}
+		act.ENMOmg, act.MADmg, act.Steps = t.Float("enmo_mg"), t.Float("mad_mg"), t.Float("steps_count")
+		for _, p := range t.Strings("posture") {
+			if p == "unknown" {
+				p = ""
+			}
+			act.Posture = append(act.Posture, p)
+		}
+	}
+	// Quality strip: one row per family, one cell per row step ending at
+	// the row time. The score is the family's coverage, halved when some of
+	// its values are missing (reason set), NaN when the family is absent.
+	for _, fam := range []struct{ name, label string }{
+		{features.FamilyHRV, "ECG / HRV"}, {features.FamilyBreathing, "breathing"}, {features.FamilyActivity, "motion"},
+	} {
+		cov, why := t.Float(fam.name+"_coverage_frac"), t.Strings(fam.name+"_reason")
+		if cov == nil {
+			continue
+		}
+		if absent(cov) && len(why) > 0 {
+			a.Missing = append(a.Missing, fam.name+": "+why[0])
+		}
+		q := QualityRow{Family: fam.label}
+		for i, x := range times {
+			s := cov[i]
+			if why != nil && why[i] != "" && isFinite(s) {
+				s *= 0.5
+			}
+			q.TimeS, q.EndS, q.Score = append(q.TimeS, x-stepS), append(q.EndS, x), append(q.Score, s)
+		}
+		in.Quality = append(in.Quality, q)
+	}
+	in.Facts = append(in.Facts, Fact{Name: "feature table", Value: fmt.Sprintf("%d rows every %v, %d columns", len(t.Rows), step, len(t.Columns))})
 }
 
 // segmentStats fills the per-label table with what was measured inside each
@@ -213,10 +284,8 @@ func (a *Analysis) segmentStats() {
 		if hr := meanHR(in.Beats, s.Start, s.End); !math.IsNaN(hr) {
 			s.Values = append(s.Values, Fact{Name: "mean HR (beats/min)", Value: fmt.Sprintf("%.1f", hr)})
 		}
-		if a.StepsS != nil {
-			lo := sort.SearchFloat64s(a.StepsS, s.Start)
-			hi := sort.SearchFloat64s(a.StepsS, s.End)
-			s.Values = append(s.Values, Fact{Name: "steps", Value: fmt.Sprintf("%d", hi-lo)})
+		if n, ok := a.StepsIn(s.Start, s.End); ok {
+			s.Values = append(s.Values, Fact{Name: "steps", Value: fmt.Sprintf("%.0f", n)})
 		}
 	}
 }
@@ -241,3 +310,47 @@ func meanHR(b Beats, start, end float64) float64 {
 // MeanHR returns the mean heart rate (beats/min) of the analysed intervals
 // ending in [start, end): 60000 over the mean interval in ms. NaN when none.
 func (a *Analysis) MeanHR(start, end float64) float64 { return meanHR(a.Input.Beats, start, end) }
+
+// StepsIn sums the table's steps_count over the activity windows that lie
+// inside [start, end) (row time minus window length at or after start, row
+// time at or before end). ok is false without an activity family.
+func (a *Analysis) StepsIn(start, end float64) (n float64, ok bool) {
+	act := a.Input.Activity
+	if act.Steps == nil {
+		return math.NaN(), false
+	}
+	for i, t0 := range act.TimeS {
+		if t0 >= start && t0+act.EpochS <= end && isFinite(act.Steps[i]) {
+			n += act.Steps[i]
+		}
+	}
+	return n, true
+}
+
+// absent reports whether a family has no coverage value in any row (the
+// extractor leaves coverage empty for a family whose channels are missing).
+func absent(cov []float64) bool {
+	for _, c := range cov {
+		if !math.IsNaN(c) {
+			return false
+		}
+	}
+	return true
+}
+
+// BreathRate returns the mean breathing rate (breaths/min) of the detected
+// breaths starting in [start, end): 60 over their mean Ttot. NaN when none.
+func (a *Analysis) BreathRate(start, end float64) float64 {
+	var sum float64
+	n := 0
+	for _, b := range a.Breaths {
+		if b.Onset >= start && b.Onset < end && isFinite(b.TtotS) {
+			sum += b.TtotS
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN()
+	}
+	return 60 / (sum / float64(n))
+}

@@ -36,8 +36,12 @@ func TestAnalyzeRecord100(t *testing.T) {
 	if hr := a.MeanHR(0, rec.Duration()); math.Abs(hr-75.5) > 1 {
 		t.Errorf("mean HR %.2f beats/min, want 75.5 +- 1", hr)
 	}
-	if len(a.Missing) == 0 || !strings.Contains(strings.Join(a.Missing, ";"), "accelerometer") {
-		t.Errorf("missing modalities not reported: %v", a.Missing)
+	miss := strings.Join(a.Missing, ";")
+	if !strings.Contains(miss, "activity:") || !strings.Contains(miss, "breathing:") {
+		t.Errorf("missing activity and breathing not reported: %v", a.Missing)
+	}
+	if a.Table == nil || len(a.Table.Rows) < 60 { // 30 min at one row per 30 s
+		t.Errorf("feature table missing or short")
 	}
 	var buf bytes.Buffer
 	if err := report.Write(&buf, a.Input); err != nil {

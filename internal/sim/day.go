@@ -149,6 +149,9 @@ type DayBreath struct {
 	EndS    float64 // end of expiration, s
 	TidalL  float64 // volume, L (0 for an effort without airflow)
 	RibFrac float64 // share of the volume taken by the rib cage, 0..1
+	// EffortL is the volume an obstructed effort shifts from the rib cage
+	// to the abdomen (L); 0 for breaths with airflow.
+	EffortL float64
 	// Obstructed marks an effort against a closed airway: the bands move in
 	// antiphase with equal and opposite volume and their calibrated sum is flat.
 	Obstructed bool
@@ -316,9 +319,17 @@ func dayBreaths(k dayKinetics, apneas []DayInterval, dur float64, rng *rand.Rand
 			rib = 0.3 // lying: breathing shifts toward the abdomen (common practice)
 		}
 		b := DayBreath{OnsetS: t, PeakS: t + duty*ttot, EndS: t + ttot, TidalL: vt, RibFrac: rib}
-		if _, ok := inAny(t, apneas); ok {
+		if a, ok := inAny(t, apneas); ok {
+			// Effort against the closed airway: half the scheduled volume
+			// moved between the compartments, none through the mouth; the
+			// last effort is cut at the event's end.
 			b.Obstructed = true
+			b.EffortL = 0.5 * b.TidalL
 			b.TidalL = 0
+			if b.EndS > a.EndS {
+				b.EndS = a.EndS
+				b.PeakS = b.OnsetS + duty*(b.EndS-b.OnsetS)
+			}
 			recovery = 2
 		} else if recovery > 0 {
 			b.TidalL *= 2
@@ -450,10 +461,8 @@ type DayRecording struct {
 
 // DaySimulate renders the scenario for a seed: the schedule drives the beat
 // and breath layout of this file, then ECGFromBeats (McSharry et al. 2003
-// waveform) and AccelSimulate turn events into signals. The bands are not
-// rendered yet (RibCage and Abdomen are nil) until the two-band breathing
-// simulator lands; the breath ground truth is complete. The same seed gives
-// identical output.
+// waveform), BreathRender (two-compartment bands) and AccelSimulate turn
+// events into signals. The same seed gives identical output.
 func DaySimulate(seed uint64) (*DayRecording, error) {
 	tr := dayEvents(seed)
 	beats := make([]ECGBeat, len(tr.Beats))
@@ -468,6 +477,7 @@ func DaySimulate(seed uint64) (*DayRecording, error) {
 	if err != nil {
 		return nil, fmt.Errorf("sim: day ECG: %w", err)
 	}
+	rib, abd := dayBands(tr, seed)
 	acc, err := AccelSimulate(dayAccelSegments(tr.Segments), AccelConfig{RateHz: DayAccRateHz, Seed: seed})
 	if err != nil {
 		return nil, fmt.Errorf("sim: day accelerometer: %w", err)
@@ -475,8 +485,36 @@ func DaySimulate(seed uint64) (*DayRecording, error) {
 	tr.Steps = acc.Steps
 	return &DayRecording{
 		Start: DayStart, DurationS: DayDurationS,
-		ECG:  ecgSig.Samples,
+		ECG:     ecgSig.Samples,
+		RibCage: rib, Abdomen: abd,
 		AccX: acc.X, AccY: acc.Y, AccZ: acc.Z,
 		Truth: tr,
 	}, nil
+}
+
+// dayBandGains returns the rib-cage and abdominal band gains (AU per litre of
+// compartment volume) for a posture: bands sit differently lying down, so
+// the gains change (the values of the breathing simulator's trail-day
+// schedule: 1.6/0.9 upright, 1.4/1.0 supine, 1.2/1.1 on the side).
+func dayBandGains(p DayPosture) (rib, abd float64) {
+	switch p {
+	case DaySupine:
+		return 1.4, 1.0
+	case DayLeftSide:
+		return 1.2, 1.1
+	}
+	return 1.6, 0.9
+}
+
+// dayBands renders the breaths into the two bands with BreathRender (its
+// default drift, noise and cardiogenic oscillation).
+func dayBands(tr DayTruth, seed uint64) (rib, abd []float64) {
+	cycles := make([]BreathCycle, len(tr.Breaths))
+	for i, b := range tr.Breaths {
+		rg, ag := dayBandGains(tr.Posture[min(int(b.OnsetS), len(tr.Posture)-1)])
+		cycles[i] = BreathCycle{OnsetS: b.OnsetS, EndInspS: b.PeakS, EndExpS: b.EndS, TidalL: b.TidalL,
+			ParadoxL: b.EffortL, RibShare: b.RibFrac, RibGain: rg, AbdGain: ag}
+	}
+	cfg := BreathConfig{RateHz: DayBandRateHz, Seed: seed}
+	return BreathRender(cycles, int(DayDurationS*DayBandRateHz), cfg, rand.New(rand.NewPCG(seed, 0xba4d5)))
 }
