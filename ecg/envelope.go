@@ -1,0 +1,151 @@
+package ecg
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"github.com/tidalbeat/tidalbeat/internal/dsp"
+	"github.com/tidalbeat/tidalbeat/window"
+)
+
+// DetectEnvelope is a second QRS detector, independent of Pan-Tompkins by
+// design, for cross-checks (the bSQI agreement index of Li, Mark and
+// Clifford 2008 needs two detectors that fail differently) and for use on
+// its own. It is a batch, zero-phase method of our own:
+//
+//  1. an order-2 Butterworth band-pass 8-25 Hz run forwards and backwards
+//     (no delay), a higher and wider band than Pan-Tompkins' 5-15 Hz;
+//  2. an energy envelope: the square root of a centred 100 ms moving mean of
+//     the squared band-passed signal;
+//  3. peaks: local maxima of the envelope at least 250 ms apart (the larger
+//     kept), accepted when above the larger of 40 % of the median of the 8
+//     most recent accepted peak heights (seeded with the three largest
+//     envelope peaks of the first 4 s) and 3 times the median envelope of the
+//     run (a noise floor); no search-back, no T-wave rule;
+//  4. the R time is the extremum of the band-passed signal within 60 ms of
+//     the envelope peak, refined on the input with the same polarity.
+//
+// Non-finite samples split the signal into runs; runs shorter than 1 s give
+// no beats. It returns beats like Detect (AmplitudemV is the input's
+// peak-to-trough within 60 ms of the R time; SearchBack is always false) and
+// the non-finite stretches as gaps.
+func DetectEnvelope(x []float64, rateHz float64) (Result, error) {
+	if len(x) == 0 {
+		return Result{}, fmt.Errorf("ecg: envelope detector: %w", ErrEmpty)
+	}
+	if !(rateHz >= MinRateHz && rateHz <= MaxRateHz) {
+		return Result{}, fmt.Errorf("ecg: envelope detector: rate %v Hz: %w", rateHz, ErrRate)
+	}
+	bp, err := dsp.ButterBandpass(2, 8, 25, rateHz)
+	if err != nil {
+		return Result{}, fmt.Errorf("ecg: envelope detector: %w", err)
+	}
+	var res Result
+	res.Gaps = window.InvalidRuns(nil, x, rateHz, 0)
+	for i := 0; i < len(x); {
+		if math.IsNaN(x[i]) || math.IsInf(x[i], 0) {
+			i++
+			continue
+		}
+		j := i
+		for j < len(x) && !math.IsNaN(x[j]) && !math.IsInf(x[j], 0) {
+			j++
+		}
+		if float64(j-i) >= rateHz {
+			res.Beats = append(res.Beats, envelopeRun(x[i:j], i, rateHz, bp)...)
+		}
+		i = j
+	}
+	return res, nil
+}
+
+func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
+	n := len(x)
+	y := bp.FiltFilt(nil, x)
+	half := max(1, int(math.Round(0.05*fs)))
+	env := make([]float64, n)
+	// Centred moving mean of y^2 over 2*half+1 samples (prefix sums).
+	ps := make([]float64, n+1)
+	for i, v := range y {
+		ps[i+1] = ps[i] + v*v
+	}
+	for i := range env {
+		a, b := max(0, i-half), min(n, i+half+1)
+		env[i] = math.Sqrt(math.Max(0, ps[b]-ps[a]) / float64(b-a))
+	}
+	sorted := append([]float64(nil), env...)
+	sort.Float64s(sorted)
+	floor := 3 * sorted[n/2]
+	sep := int(math.Round(0.25 * fs))
+	// Local maxima, merged within sep keeping the larger.
+	var pk []int
+	for i := 1; i+1 < n; i++ {
+		if env[i] > env[i-1] && env[i] >= env[i+1] {
+			if len(pk) > 0 && i-pk[len(pk)-1] < sep {
+				if env[i] > env[pk[len(pk)-1]] {
+					pk[len(pk)-1] = i
+				}
+				continue
+			}
+			pk = append(pk, i)
+		}
+	}
+	// Seed the recent-peak memory with the largest peaks of the first 4 s.
+	var seed []float64
+	for _, p := range pk {
+		if float64(p) < 4*fs {
+			seed = append(seed, env[p])
+		}
+	}
+	sort.Sort(sort.Reverse(sort.Float64Slice(seed)))
+	recent := make([]float64, 0, 8)
+	for i := 0; i < len(seed) && i < 3; i++ {
+		recent = append(recent, seed[i])
+	}
+	w := max(1, int(math.Round(0.06*fs)))
+	var out []Beat
+	last := -sep
+	for _, p := range pk {
+		th := floor
+		if len(recent) > 0 {
+			m := append([]float64(nil), recent...)
+			sort.Float64s(m)
+			th = math.Max(th, 0.4*m[len(m)/2])
+		}
+		if env[p] <= th || p-last < sep {
+			continue
+		}
+		if len(recent) == 8 {
+			copy(recent, recent[1:])
+			recent = recent[:7]
+		}
+		recent = append(recent, env[p])
+		last = p
+		a, b := max(0, p-w), min(n-1, p+w)
+		r := a
+		for j := a; j <= b; j++ {
+			if math.Abs(y[j]) > math.Abs(y[r]) {
+				r = j
+			}
+		}
+		// Refine on the input with the band-passed polarity.
+		s := 1.0
+		if y[r] < 0 {
+			s = -1
+		}
+		a2, b2 := max(0, r-w/2), min(n-1, r+w/2)
+		best := r
+		lo, hi := x[a2], x[a2]
+		for j := a2; j <= b2; j++ {
+			if s*x[j] > s*x[best] {
+				best = j
+			}
+		}
+		for j := max(0, best-w); j <= min(n-1, best+w); j++ {
+			lo, hi = math.Min(lo, x[j]), math.Max(hi, x[j])
+		}
+		out = append(out, Beat{Sample: best + off, Time: float64(best+off) / fs, AmplitudemV: hi - lo})
+	}
+	return out
+}
