@@ -83,11 +83,11 @@ type processor struct {
 	fresh bool // next valid sample (re)starts the filters
 
 	// counts
-	cf     *dsp.Filter
+	cf     *pair
 	zcSide int8
 
 	// steps
-	sf            *dsp.Filter
+	sf            *pair
 	rmsA, ms2     float64
 	p1, p2        float64
 	haveP         int
@@ -101,6 +101,8 @@ type processor struct {
 
 	// posture
 	gf                          [3]*dsp.Filter
+	pm, pk                      int        // samples per gravity block, samples in the current block
+	psum                        [3]float64 // sum of the current block
 	hasRef, moving              bool
 	ref, cand                   [3]float64
 	onset, stableSince, stableN int
@@ -124,19 +126,27 @@ func newProcessor(rateHz float64, opts Options) (*processor, error) {
 	if err != nil {
 		return nil, fmt.Errorf("motion: count filter: %w", err)
 	}
-	p.cf = cc.NewFilter()
+	if p.cf, err = newPair(cc); err != nil {
+		return nil, err
+	}
 	s := o.Steps
 	sc, err := dsp.ButterBandpass(2, s.LowHz, s.HighHz, rateHz)
 	if err != nil {
 		return nil, fmt.Errorf("motion: step filter: %w", err)
 	}
-	p.sf = sc.NewFilter()
+	if p.sf, err = newPair(sc); err != nil {
+		return nil, err
+	}
 	p.rmsA = 1 - math.Exp(-1/(s.RMSWindowS*rateHz))
 	p.minIntN = int(math.Round(s.MinIntervalS * rateHz))
 	p.maxIntN = int(math.Round(s.MaxIntervalS * rateHz))
 	p.minRun = s.MinRun
 	p.peakMin, p.relK = s.MinPeakG, s.RelPeak
-	gc, err := dsp.ButterLowpass(2, o.Posture.GravityHz, rateHz)
+	// Gravity is followed at about 10 Hz: block means of pm samples feed the
+	// low-pass, which is ample for a 0.5 Hz cut-off and keeps the posture
+	// logic off the per-sample path.
+	p.pm = max(1, int(math.Round(rateHz/postureRateHz)))
+	gc, err := dsp.ButterLowpass(2, o.Posture.GravityHz, rateHz/float64(p.pm))
 	if err != nil {
 		return nil, fmt.Errorf("motion: gravity filter: %w", err)
 	}
@@ -187,18 +197,19 @@ func (p *processor) step(x, y, z float64) {
 	if p.fresh {
 		// Start (or restart after a gap) every filter in its steady state
 		// for this sample, so a constant input produces no transient.
-		p.cf.Reset(vm)
-		p.sf.Reset(vm)
+		p.cf.reset(vm)
+		p.sf.reset(vm)
 		for k := range p.gf {
 			p.gf[k].Reset(b[k])
 		}
+		p.pk, p.psum = 0, [3]float64{}
 		p.haveP = 0
 		p.fresh = false
 	}
 
 	// Counts: band-pass, rectify, dead band, clip (CountOptions).
 	c := &p.o.Counts
-	bp := p.cf.Step(vm)
+	bp := p.cf.step(vm)
 	r := math.Abs(bp) - c.DeadBandG
 	if r < 0 {
 		r = 0
@@ -223,7 +234,7 @@ func (p *processor) step(x, y, z float64) {
 	}
 	p.out = append(p.out, Sample{VM: float32(vm), Up: float32(b[0]), Left: float32(b[1]), Forward: float32(b[2]), Count: float32(r), Flags: fl})
 
-	p.stepDetect(i, p.sf.Step(vm))
+	p.stepDetect(i, p.sf.step(vm))
 	p.posture(i, b)
 }
 
@@ -281,10 +292,17 @@ func (p *processor) markStep(idx int) {
 // posture tracks the low-passed gravity direction and reports sustained
 // rotations (PostureOptions).
 func (p *processor) posture(i int, b [3]float64) {
+	p.psum[0] += b[0]
+	p.psum[1] += b[1]
+	p.psum[2] += b[2]
+	if p.pk++; p.pk < p.pm {
+		return
+	}
 	var g [3]float64
 	for k := range g {
-		g[k] = p.gf[k].Step(b[k])
+		g[k] = p.gf[k].Step(p.psum[k] / float64(p.pm))
 	}
+	p.pk, p.psum = 0, [3]float64{}
 	n := math.Sqrt(g[0]*g[0] + g[1]*g[1] + g[2]*g[2])
 	if n < 0.1 { // free fall or a broken sensor: no direction to follow
 		return
@@ -333,6 +351,9 @@ func (p *processor) posture(i int, b [3]float64) {
 	p.out[i-p.outBase].Flags |= FlagPostureChange
 	p.ref, p.cand, p.stableSince = g, g, i
 }
+
+// postureRateHz is the rate at which gravity and posture are followed.
+const postureRateHz = 10
 
 func dot(a, b [3]float64) float64 { return a[0]*b[0] + a[1]*b[1] + a[2]*b[2] }
 

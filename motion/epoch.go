@@ -1,6 +1,7 @@
 package motion
 
 import (
+	"fmt"
 	"math"
 	"strconv"
 	"time"
@@ -230,12 +231,31 @@ func EpochsOf(tr *Trace, origin time.Time, spec window.Spec, gaps []window.Inter
 
 // Epochs runs the whole pipeline over x, y, z (opts.Unit, sample i at
 // i/rateHz s after origin) and summarises it on the grid of spec: the
-// convenience most callers want. Use Derive and EpochsOf to keep the steps
-// and posture changes, or Stream for live data.
+// convenience most callers want. It feeds the data through Stream in blocks,
+// so memory stays bounded by a window whatever the length of the recording;
+// the result equals EpochsOf(Derive(...)) (tested). Use Derive and EpochsOf
+// to keep the steps and posture changes.
 func Epochs(x, y, z []float64, rateHz float64, origin time.Time, spec window.Spec, opts Options) ([]Epoch, error) {
-	tr, err := Derive(x, y, z, rateHz, opts)
+	if len(x) != len(y) || len(x) != len(z) {
+		return nil, fmt.Errorf("motion: axis lengths %d, %d, %d differ: %w", len(x), len(y), len(z), ErrInput)
+	}
+	s, err := NewStream(origin, spec, rateHz, opts)
 	if err != nil {
 		return nil, err
 	}
-	return EpochsOf(tr, origin, spec, nil, opts)
+	const block = 1 << 16
+	var out []Epoch
+	for i := 0; i < len(x); i += block {
+		j := min(len(x), i+block)
+		if err := s.Push(x[i:j], y[i:j], z[i:j]); err != nil {
+			return nil, err
+		}
+		out = append(out, s.Ready()...)
+		s.Steps()
+		s.PostureChanges()
+	}
+	if err := s.Close(); err != nil {
+		return nil, err
+	}
+	return append(out, s.Ready()...), nil
 }

@@ -273,8 +273,9 @@ func (s StepOptions) withDefaults() StepOptions {
 // PostureOptions configures posture and posture-change detection.
 type PostureOptions struct {
 	// GravityHz is the cut-off of the order-2 Butterworth low-pass that
-	// estimates gravity for posture-change events. Default 0.5 Hz (methods
-	// reference 6.4: <= ~0.5 Hz, common practice).
+	// estimates gravity for posture-change events, run on 0.1-s block means
+	// (so below 5 Hz). Default 0.5 Hz (methods reference 6.4: <= ~0.5 Hz,
+	// common practice).
 	GravityHz float64
 	// LyingDeg is the inclination of the up axis from vertical beyond which
 	// the wearer is lying. Default 60° (methods reference 6.4, common
@@ -419,7 +420,7 @@ func (o Options) validate(rateHz float64) error {
 		return fmt.Errorf("motion: count band %v-%v Hz at %v Hz: %w", c.LowHz, c.HighHz, rateHz, ErrOptions)
 	case s.LowHz >= s.HighHz || s.HighHz >= nyq:
 		return fmt.Errorf("motion: step band %v-%v Hz at %v Hz: %w", s.LowHz, s.HighHz, rateHz, ErrOptions)
-	case p.GravityHz >= nyq:
+	case p.GravityHz >= postureRateHz/2 || p.GravityHz >= nyq:
 		return fmt.Errorf("motion: gravity cut-off %v Hz at %v Hz: %w", p.GravityHz, rateHz, ErrOptions)
 	case s.MinIntervalS >= s.MaxIntervalS:
 		return fmt.Errorf("motion: step intervals %v-%v s: %w", s.MinIntervalS, s.MaxIntervalS, ErrOptions)

@@ -102,10 +102,9 @@ func (s *Stream) release(upto int) error {
 		i = j
 	}
 	s.pushed += len(out)
-	// Keep only the undecided tail; copy so the window stream's buffer never
-	// aliases ours.
-	rest := p.out[len(out):]
-	p.out = append(make([]Sample, 0, max(len(rest), 256)), rest...)
+	// Keep only the undecided tail, moved to the front of our buffer (the
+	// window stream copied what it was given, so nothing aliases it).
+	p.out = p.out[:copy(p.out, p.out[len(out):])]
 	p.outBase = upto
 	for _, i := range p.steps {
 		s.steps = append(s.steps, sampleTime(s.rate, i))

@@ -47,6 +47,13 @@ func TestStreamMatchesBatchAnyChunking(t *testing.T) {
 	}
 	rng := newRand(11)
 	eq := cmpopts.EquateNaNs()
+	conv, err := motion.Epochs(x, y, z, 50, origin, spec, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := cmp.Diff(want, conv, eq); d != "" {
+		t.Fatalf("Epochs differs from EpochsOf(Derive) (-want +got):\n%s", d)
+	}
 	for trial := 0; trial < 12; trial++ {
 		s, err := motion.NewStream(origin, spec, 50, opts)
 		if err != nil {
