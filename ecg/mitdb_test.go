@@ -1,12 +1,53 @@
 package ecg_test
 
 import (
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
 	"sync"
 	"testing"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
+	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/internal/refdata"
 )
+
+// refBeat is one reference beat annotation: its sample at the record's
+// rate and its WFDB mnemonic.
+type refBeat struct {
+	sample int
+	code   string
+}
+
+// loadRecord reads a WFDB record with features/recording and returns the
+// named lead (or the first channel when name is empty), its rate and the
+// reference beat annotations (Annotation.IsBeat).
+func loadRecord(t testing.TB, path, name string) ([]float64, float64, []refBeat) {
+	t.Helper()
+	rec, err := recording.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rec.Channels) == 0 {
+		t.Fatalf("%s: no signals", path)
+	}
+	ch := &rec.Channels[0]
+	if name != "" {
+		c, ok := rec.ChannelByName(name)
+		if !ok {
+			t.Fatalf("%s: no channel %q", path, name)
+		}
+		ch = c
+	}
+	var beats []refBeat
+	for _, a := range rec.Annotations {
+		if a.IsBeat() {
+			beats = append(beats, refBeat{sample: int(a.Sample), code: a.Code})
+		}
+	}
+	return ch.Samples, ch.RateHz, beats
+}
 
 const rate100 = 360 // MIT-BIH record 100 header: 360 Hz
 
@@ -20,10 +61,9 @@ var rec100 struct {
 func record100(t testing.TB) ([]float64, []float64, []refBeat) {
 	t.Helper()
 	hea := refdata.Shared(t, "physionet/mitdb/100.hea")
-	base := hea[:len(hea)-4]
 	rec100.once.Do(func() {
-		rec100.mlii, rec100.v5 = read212(t, base+".dat")
-		rec100.beats = readAtr(t, base+".atr")
+		rec100.mlii, _, rec100.beats = loadRecord(t, hea, "MLII")
+		rec100.v5, _, _ = loadRecord(t, hea, "V5")
 	})
 	return rec100.mlii, rec100.v5, rec100.beats
 }
@@ -95,17 +135,17 @@ func TestRecord100EctopicFlags(t *testing.T) {
 	for _, p := range s.Pairs {
 		e := ectopicAt[res.Beats[p[1]].Time]
 		switch ref[p[0]].code {
-		case 8: // A, atrial premature beat (MIT annotation code)
+		case "A": // atrial premature beat
 			nA++
 			if e {
 				ectA++
 			}
-		case 5: // V, premature ventricular contraction
+		case "V": // premature ventricular contraction
 			nV++
 			if e {
 				ectV++
 			}
-		case 1:
+		case "N":
 			nN++
 			if e {
 				ectN++
@@ -127,5 +167,62 @@ func TestRecord100EctopicFlags(t *testing.T) {
 	}
 	if ectN > 10 {
 		t.Errorf("%d normal beats flagged ectopic, ceiling 10", ectN)
+	}
+}
+
+// TestMITDBDirectory scores every WFDB record with an .atr file in the
+// directory named by TIDALBEAT_MITDB (e.g. the full MIT-BIH Arrhythmia
+// Database): whole records, the MLII lead when present, else the first
+// signal. Gross Se and +P must reach 99.5 % (issue 4; Pan and Tompkins 1985
+// report 99.3 % overall, from memory).
+func TestMITDBDirectory(t *testing.T) {
+	dir := refdata.EnvDir(t, refdata.MITDBEnv, "MIT-BIH (or other WFDB) records with .atr reference annotations")
+	heas, _ := filepath.Glob(filepath.Join(dir, "*.hea"))
+	sort.Strings(heas)
+	var scores []ecg.Score
+	for _, h := range heas {
+		base := strings.TrimSuffix(h, ".hea")
+		if _, err := os.Stat(base + ".atr"); err != nil {
+			continue
+		}
+		rec, err := recording.Open(h)
+		if err != nil {
+			t.Errorf("%s: %v", h, err)
+			continue
+		}
+		if len(rec.Channels) == 0 {
+			continue
+		}
+		ch := &rec.Channels[0]
+		if c, ok := rec.ChannelByName("MLII"); ok {
+			ch = c
+		}
+		var ref []float64
+		for _, a := range rec.Annotations {
+			if a.IsBeat() {
+				ref = append(ref, a.Time)
+			}
+		}
+		res, err := ecg.Detect(ch.Samples, ch.RateHz, ecg.Options{})
+		if err != nil {
+			t.Errorf("%s: %v", h, err)
+			continue
+		}
+		s, err := ecg.MatchBeats(ref, beatTimes(res.Beats), 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s.Record = rec.Name
+		scores = append(scores, s)
+		t.Logf("%-6s %-5s TP %6d FN %5d FP %5d Se %.4f +P %.4f", rec.Name, ch.Name, s.TP, s.FN, s.FP, s.Sensitivity(), s.PositivePredictivity())
+	}
+	if len(scores) == 0 {
+		t.Fatalf("%s=%s holds no .hea record with an .atr file", refdata.MITDBEnv, dir)
+	}
+	sum := ecg.Summarize(scores)
+	t.Logf("gross over %d records: TP %d FN %d FP %d Se %.4f +P %.4f; average Se %.4f +P %.4f",
+		sum.Records, sum.TP, sum.FN, sum.FP, sum.GrossSe, sum.GrossPP, sum.AverageSe, sum.AveragePP)
+	if sum.GrossSe < 0.995 || sum.GrossPP < 0.995 {
+		t.Errorf("gross Se %.4f +P %.4f, want both >= 0.995", sum.GrossSe, sum.GrossPP)
 	}
 }
