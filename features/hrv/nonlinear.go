@@ -86,11 +86,12 @@ func sortedTemplates(x []float64, n, width int) (idx []int32, coords [][]float64
 // (use 0.2 * SD(x) for the usual relative tolerance). It returns NaN and
 // ErrUndefined when A or B is 0, and ErrTooFew when N <= m+1.
 //
-// The count is exact. Templates are sorted by their first coordinate, so each
-// one is compared only with the following templates whose first value lies
-// within r (the same float comparison as the direct method, hence the same
-// counts); cost O(N log N + N K) for K such candidates per template, memory
-// O(N m).
+// The count is exact, never estimated: candidate pairs are pruned by
+// sorting (see countGrid; for m = 1 or a tiny r, templates sorted by their
+// first coordinate are compared only with the following ones within r), and
+// every counted pair passes the same |d| <= r comparison as the direct
+// definition, hence the same counts. Cost O(N log N + K) for K candidate
+// pairs (about twice the matching pairs), memory O(N m).
 func SampleEntropy(x []float64, m int, r float64) (float64, error) {
 	a, b, err := SampleEntropyCounts(x, m, r)
 	if err != nil {
@@ -115,24 +116,13 @@ func SampleEntropyCounts(x []float64, m int, r float64) (a, b int64, err error) 
 	if len(x) > math.MaxInt32 {
 		return 0, 0, fmt.Errorf("hrv: sample entropy of %d values: %w", len(x), ErrInput)
 	}
+	if m >= 2 {
+		if a, b, ok := countGrid(x, n, m, r); ok {
+			return a, b, nil
+		}
+	}
 	_, c := sortedTemplates(x, n, m+1)
 	c0 := c[0]
-	if m == 2 {
-		// Unrolled common case.
-		c1, c2 := c[1], c[2]
-		for k := 0; k < n; k++ {
-			v0, v1, v2 := c0[k], c1[k], c2[k]
-			for j := k + 1; j < n && c0[j]-v0 <= r; j++ {
-				if math.Abs(c1[j]-v1) <= r {
-					b++
-					if math.Abs(c2[j]-v2) <= r {
-						a++
-					}
-				}
-			}
-		}
-		return a, b, nil
-	}
 	for k := 0; k < n; k++ {
 		v0 := c0[k]
 		for j := k + 1; j < n && c0[j]-v0 <= r; j++ {
@@ -152,6 +142,136 @@ func SampleEntropyCounts(x []float64, m int, r float64) (a, b int64, err error) 
 		}
 	}
 	return a, b, nil
+}
+
+// countGrid is the fast exact counter for m >= 2. Templates are binned by
+// their first coordinate into cells slightly wider than r and sorted by
+// (cell, second coordinate). A template's matches then lie in its own cell
+// or the next one (pairs are unordered, so the previous cell is not
+// needed), and inside each cell within a contiguous run of the second
+// coordinate found by binary search with the same |d| <= r comparison the
+// definition uses. Pairs inside one cell are seen from both ends, and every
+// template matches itself, so those counts are halved after removing the
+// self-matches. Every counted pair passes the full Chebyshev test, so the
+// counts equal the direct definition's. The cell width exceeds r by a margin
+// far above the rounding of the binning, so no match hides two cells away;
+// when that margin cannot be guaranteed (r zero or tiny against the values,
+// too many cells) it reports ok = false and the caller uses the plain sorted
+// scan.
+func countGrid(x []float64, n, m int, r float64) (a, b int64, ok bool) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range x {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	scale := math.Max(math.Abs(lo), math.Abs(hi))
+	if !(r > 1e-6*scale) || (hi-lo)/r > 1e9 {
+		return 0, 0, false
+	}
+	w := r * (1 + 1e-7)
+	cell := make([]int64, n)
+	for i := 0; i < n; i++ {
+		cell[i] = int64(math.Floor((x[i] - lo) / w))
+	}
+	idx := make([]int32, n)
+	for i := range idx {
+		idx[i] = int32(i)
+	}
+	slices.SortFunc(idx, func(p, q int32) int {
+		if cell[p] != cell[q] {
+			if cell[p] < cell[q] {
+				return -1
+			}
+			return 1
+		}
+		if x[p+1] < x[q+1] {
+			return -1
+		}
+		if x[p+1] > x[q+1] {
+			return 1
+		}
+		return int(p - q)
+	})
+	c := make([][]float64, m+1)
+	for d := range c {
+		col := make([]float64, n)
+		for k, i := range idx {
+			col[k] = x[int(i)+d]
+		}
+		c[d] = col
+	}
+	cs := make([]int64, n)
+	for k, i := range idx {
+		cs[k] = cell[i]
+	}
+	c0, c1, cm := c[0], c[1], c[m]
+	var sameA, sameB, nextA, nextB int64
+	// count scans run [s, e) of one cell for matches of template k.
+	count := func(k, s, e int) (ca, cb int64) {
+		v1 := c1[k]
+		// first j with c1[j]-v1 >= -r, then first j with c1[j]-v1 > r
+		j0 := s + sortSearch(e-s, func(i int) bool { return c1[s+i]-v1 >= -r })
+		j1 := j0 + sortSearch(e-j0, func(i int) bool { return c1[j0+i]-v1 > r })
+		v0, vm := c0[k], cm[k]
+		for j := j0; j < j1; j++ {
+			if math.Abs(c0[j]-v0) > r {
+				continue
+			}
+			match := true
+			for d := 2; d < m; d++ {
+				if math.Abs(c[d][j]-c[d][k]) > r {
+					match = false
+					break
+				}
+			}
+			if match {
+				cb++
+				if math.Abs(cm[j]-vm) <= r {
+					ca++
+				}
+			}
+		}
+		return ca, cb
+	}
+	for s := 0; s < n; {
+		e := s
+		for e < n && cs[e] == cs[s] {
+			e++
+		}
+		// next cell run, only if it is the adjacent cell
+		ns, ne := e, e
+		if e < n && cs[e] == cs[s]+1 {
+			for ne < n && cs[ne] == cs[e] {
+				ne++
+			}
+		}
+		for k := s; k < e; k++ {
+			ca, cb := count(k, s, e)
+			sameA += ca
+			sameB += cb
+			if ne > ns {
+				ca, cb = count(k, ns, ne)
+				nextA += ca
+				nextB += cb
+			}
+		}
+		s = e
+	}
+	return (sameA-int64(n))/2 + nextA, (sameB-int64(n))/2 + nextB, true
+}
+
+// sortSearch is sort.Search without the import: the smallest i in [0, n)
+// with f(i) true, or n.
+func sortSearch(n int, f func(int) bool) int {
+	i, j := 0, n
+	for i < j {
+		h := int(uint(i+j) >> 1)
+		if !f(h) {
+			i = h + 1
+		} else {
+			j = h
+		}
+	}
+	return i
 }
 
 // ApproximateEntropy returns ApEn(m, r) of x (Pincus, PNAS 88(6):2297-2301,

@@ -64,7 +64,7 @@ func TestSampleEntropySmall(t *testing.T) {
 // the RR case, methods.md 3.2).
 func TestSampleEntropyExact(t *testing.T) {
 	rng := rand.New(rand.NewPCG(12, 12))
-	for trial := 0; trial < 20; trial++ {
+	for trial := 0; trial < 40; trial++ {
 		n := 50 + rng.IntN(400)
 		x := make([]float64, n)
 		for i := range x {
@@ -72,6 +72,17 @@ func TestSampleEntropyExact(t *testing.T) {
 		}
 		m := 1 + rng.IntN(3)
 		r := float64(rng.IntN(12))
+		if trial%2 == 1 {
+			// continuous values on a lattice of r: many distances exactly r
+			// and values on cell edges
+			r = 0.5 + 5*rng.Float64()
+			for i := range x {
+				x[i] = 800 + r*math.Round(6*rng.NormFloat64())
+				if i%3 == 0 {
+					x[i] += rng.NormFloat64()
+				}
+			}
+		}
 		a, b, err := SampleEntropyCounts(x, m, r)
 		if err != nil {
 			t.Fatal(err)
