@@ -263,7 +263,7 @@ func OpenWith(path string, opt Options) (*Recording, error) {
 	case ".edf", ".bdf", ".rec":
 		rec, err = readEDFFile(path)
 	case ".csv":
-		rec, err = readCSVFile(path, opt.CSV)
+		rec, err = readCSVFile(path, opt)
 	default:
 		rec, err = readWFDB(path, opt)
 	}
@@ -276,7 +276,7 @@ func OpenWith(path string, opt Options) (*Recording, error) {
 
 // finish applies the options common to all formats: start time, roles.
 func finish(rec *Recording, opt Options) {
-	if !rec.StartKnown && !opt.Start.IsZero() {
+	if !rec.StartKnown && rec.Start.IsZero() && !opt.Start.IsZero() {
 		rec.Start = opt.Start.UTC()
 	}
 	for i := range rec.Channels {

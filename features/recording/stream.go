@@ -79,7 +79,7 @@ func OpenStreamWith(path string, opt Options) (*Reader, error) {
 		r, err = openEDFStream(path)
 	case ".csv":
 		var rec *Recording
-		rec, err = readCSVFile(path, opt.CSV)
+		rec, err = readCSVFile(path, opt)
 		if err == nil {
 			r = memoryReader(rec)
 		}

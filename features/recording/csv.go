@@ -1,0 +1,472 @@
+package recording
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/tidalbeat/tidalbeat/window"
+)
+
+// CSV layout read by this package: a header row naming the columns, then one
+// row per sample time. One column holds the time: seconds from the recording
+// start (a unit in the header such as "time[ms]" scales it: ns, us, ms, s,
+// min), seconds since the Unix epoch (CSVOptions.EpochTime), or ISO-8601 /
+// RFC 3339 timestamps (UTC when they carry no offset). Every other column is
+// a channel whose header may carry its unit in brackets or parentheses,
+// "acc_x[m/s2]" or "acc_x (m/s2)". A column whose first value is not a number
+// is a label column: each change of label becomes an annotation lasting until
+// the next change. Empty cells, "NaN" and "NA" are invalid samples. Lines
+// starting with '#' are comments.
+//
+// Timestamps that are not uniform (phone and watch exports) are resampled
+// by linear interpolation onto a uniform grid at the rate 1/median interval
+// (or CSVOptions.RateHz) starting at the first timestamp; intervals longer
+// than CSVOptions.GapFactor median intervals are gaps (NaN), never bridged.
+// Rows repeating the previous timestamp are merged (valid values averaged,
+// the last label kept) and counted in ResampleReport.Duplicates; times that
+// go backwards are an error.
+// Recording.Resample reports the method and the timing jitter.
+
+// CSVOptions adjusts the CSV reader. The zero value means the defaults.
+type CSVOptions struct {
+	// TimeColumn names the time column. When empty: the first column named
+	// time, t, timestamp, datetime, date_time or time_s (any case, unit
+	// suffix ignored), else the first column.
+	TimeColumn string
+	// Units sets units by column name, overriding units in the header
+	// (for the time column too, e.g. {"timestamp": "ms"}).
+	Units map[string]string
+	// EpochTime says numeric times are seconds (scaled by the header unit)
+	// since 1970-01-01T00:00:00Z, which fixes the start.
+	EpochTime bool
+	// RateHz is the resampling rate for irregular timestamps; 1/median
+	// interval when zero.
+	RateHz float64
+	// GapFactor: an interval longer than GapFactor median intervals is a
+	// gap. 3 when zero (common practice: a few missed samples are
+	// interpolated, longer holes are not).
+	GapFactor float64
+	// Comma is the field separator; ',' when zero.
+	Comma rune
+}
+
+// ResampleReport says how irregular timestamps were put on a uniform grid and
+// how irregular they were. Times are seconds.
+type ResampleReport struct {
+	Method        string  // "linear interpolation onto a uniform grid"
+	RateHz        float64 // output rate
+	SourceSamples int     // rows read
+	Duplicates    int     // rows whose timestamp repeated the row before: their values were averaged into it
+	OutputSamples int     // samples per channel after resampling
+	MedianS       float64 // median interval between timestamps
+	MeanS         float64 // mean interval
+	SDS           float64 // standard deviation of the intervals (jitter)
+	MinS, MaxS    float64 // shortest and longest interval
+	// MaxJitterS is the largest |interval - median| among intervals that
+	// are not gaps.
+	MaxJitterS float64
+	Gaps       int     // intervals longer than GapFactor medians, left as NaN
+	GapS       float64 // total time inside those gaps
+}
+
+// uniformTolerance is the relative interval deviation below which CSV
+// timestamps are taken as uniform (printing rounds times: common practice).
+const uniformTolerance = 1e-3
+
+func readCSVFile(path string, opt Options) (*Recording, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("csv %s: %w: %w", path, ErrNotFound, err)
+	}
+	defer f.Close()
+	rec, err := ReadCSV(f, path, opt.CSV, opt.Start)
+	if err != nil {
+		return nil, err
+	}
+	rec.Name = strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
+	return rec, nil
+}
+
+// splitUnit splits "name[unit]" or "name (unit)".
+func splitUnit(h string) (string, string) {
+	h = strings.TrimSpace(h)
+	for _, p := range [][2]string{{"[", "]"}, {"(", ")"}} {
+		if strings.HasSuffix(h, p[1]) {
+			if i := strings.LastIndex(h, p[0]); i > 0 {
+				return strings.TrimSpace(h[:i]), strings.TrimSpace(h[i+1 : len(h)-1])
+			}
+		}
+	}
+	return h, ""
+}
+
+func isMissing(s string) bool {
+	switch strings.ToLower(strings.TrimSpace(s)) {
+	case "", "nan", "na", "n/a", "null":
+		return true
+	}
+	return false
+}
+
+// ReadCSV reads a CSV recording (layout above) from r; name is used in
+// errors. start is the start for relative times (it may be zero); the
+// recording's Start is start plus the first time value.
+func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Recording, error) {
+	cr := csv.NewReader(r)
+	cr.Comment = '#'
+	cr.TrimLeadingSpace = true
+	cr.ReuseRecord = true
+	if opt.Comma != 0 {
+		cr.Comma = opt.Comma
+	}
+	head, err := cr.Read()
+	if err != nil {
+		if errors.Is(err, io.EOF) {
+			return nil, fmt.Errorf("csv %s: no header row: %w", name, ErrHeader)
+		}
+		return nil, fmt.Errorf("csv %s: header row: %v: %w", name, err, ErrHeader)
+	}
+	head = append([]string(nil), head...)
+	if len(head) < 2 {
+		return nil, fmt.Errorf("csv %s: header has %d column(s), need a time column and a channel: %w", name, len(head), ErrHeader)
+	}
+	names := make([]string, len(head))
+	units := make([]string, len(head))
+	for i, h := range head {
+		names[i], units[i] = splitUnit(strings.TrimPrefix(h, "\ufeff"))
+	}
+	tc := -1
+	if opt.TimeColumn != "" {
+		for i, n := range names {
+			if n == opt.TimeColumn || head[i] == opt.TimeColumn {
+				tc = i
+				break
+			}
+		}
+		if tc < 0 {
+			return nil, fmt.Errorf("csv %s: time column %q not in header: %w", name, opt.TimeColumn, ErrHeader)
+		}
+	} else {
+		for i, n := range names {
+			switch strings.ToLower(n) {
+			case "time", "t", "timestamp", "datetime", "date_time", "time_s":
+				tc = i
+			}
+			if tc >= 0 {
+				break
+			}
+		}
+		if tc < 0 {
+			tc = 0
+		}
+	}
+	if v, ok := opt.Units[names[tc]]; ok {
+		units[tc] = v
+	}
+	scale := 1.0
+	switch strings.ToLower(units[tc]) {
+	case "", "s", "sec":
+	case "ms":
+		scale = 1e-3
+	case "us", "µs":
+		scale = 1e-6
+	case "ns":
+		scale = 1e-9
+	case "min":
+		scale = 60
+	default:
+		return nil, fmt.Errorf("csv %s: time column %q: unit %q (want ns, us, ms, s or min): %w", name, head[tc], units[tc], ErrHeader)
+	}
+	var times []float64
+	cols := make([][]float64, len(head))
+	labels := make([][]string, len(head))
+	kind := make([]int, len(head)) // 0 undecided, 1 numeric, 2 label
+	var absolute *time.Time
+	valid := make([]int, len(head)) // valid values merged into the last row, per column
+	dups := 0
+	row := 1
+	for {
+		recd, err := cr.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		row++
+		if err != nil {
+			return nil, fmt.Errorf("csv %s: row %d: %v: %w", name, row, err, ErrData)
+		}
+		ts := strings.TrimSpace(recd[tc])
+		var t float64
+		if v, err := strconv.ParseFloat(ts, 64); err == nil && !math.IsNaN(v) && !math.IsInf(v, 0) && absolute == nil {
+			t = v // in the column's unit; scaled after subtracting the first time, to keep precision
+		} else {
+			at, err := parseISOTime(ts)
+			if err != nil || (absolute == nil && len(times) > 0) {
+				return nil, fmt.Errorf("csv %s: row %d: time %q: not a number of seconds or an ISO-8601 time (or mixed forms): %w", name, row, ts, ErrData)
+			}
+			if absolute == nil {
+				absolute = &at
+			}
+			t = at.Sub(*absolute).Seconds()
+			scale = 1
+		}
+		dup := false
+		if n := len(times); n > 0 && !(t > times[n-1]) {
+			if t != times[n-1] {
+				return nil, fmt.Errorf("csv %s: row %d: time %v s before the previous row's %v s: %w", name, row, t, times[n-1], ErrData)
+			}
+			dup = true // a repeated timestamp: merged with the row before
+			dups++
+		} else {
+			times = append(times, t)
+			for i := range valid {
+				valid[i] = 0
+			}
+		}
+		for i, cell := range recd {
+			if i == tc {
+				continue
+			}
+			if kind[i] == 0 && !isMissing(cell) {
+				kind[i] = 1
+				if _, err := strconv.ParseFloat(strings.TrimSpace(cell), 64); err != nil {
+					kind[i] = 2
+					labels[i] = make([]string, len(cols[i]))
+				}
+			}
+			if kind[i] == 2 {
+				if dup {
+					labels[i][len(labels[i])-1] = strings.TrimSpace(cell)
+				} else {
+					labels[i] = append(labels[i], strings.TrimSpace(cell))
+				}
+				continue
+			}
+			v := nan
+			if !isMissing(cell) {
+				x, err := strconv.ParseFloat(strings.TrimSpace(cell), 64)
+				if err != nil {
+					return nil, fmt.Errorf("csv %s: row %d: column %q: value %q is not a number: %w", name, row, head[i], cell, ErrData)
+				}
+				if !math.IsInf(x, 0) {
+					v = x
+				}
+			}
+			switch {
+			case !dup:
+				cols[i] = append(cols[i], v)
+				if !math.IsNaN(v) {
+					valid[i] = 1
+				}
+			case !math.IsNaN(v):
+				// Average the valid values of rows sharing a timestamp.
+				last := &cols[i][len(cols[i])-1]
+				if valid[i] == 0 {
+					*last = v
+				} else {
+					*last += (v - *last) / float64(valid[i]+1)
+				}
+				valid[i]++
+			}
+		}
+	}
+	if len(times) < 2 {
+		return nil, fmt.Errorf("csv %s: %d data row(s), need at least 2 to know the rate: %w", name, len(times), ErrData)
+	}
+	rec := &Recording{Format: "csv"}
+	t0 := times[0]
+	switch {
+	case absolute != nil:
+		rec.Start, rec.StartKnown = absolute.UTC(), true
+	case opt.EpochTime:
+		rec.Start, rec.StartKnown = time.Unix(0, 0).UTC().Add(scaledDuration(t0, scale)), true
+	case !start.IsZero():
+		rec.Start = start.UTC().Add(scaledDuration(t0, scale))
+	}
+	for i := range times {
+		times[i] = (times[i] - t0) * scale
+	}
+	grid, rep, gaps, err := csvGrid(times, opt, dups > 0)
+	if err != nil {
+		return nil, fmt.Errorf("csv %s: %w", name, err)
+	}
+	if rep != nil {
+		rep.SourceSamples += dups
+		rep.Duplicates = dups
+	}
+	rec.Resample = rep
+	for i := range head {
+		if i == tc {
+			continue
+		}
+		if kind[i] == 2 {
+			rec.Annotations = append(rec.Annotations, labelAnnotations(labels[i], times, names[i])...)
+			continue
+		}
+		u := units[i]
+		if v, ok := opt.Units[names[i]]; ok {
+			u = v
+		}
+		c := Channel{Name: names[i], Unit: u, RateHz: grid.rate}
+		if rep == nil {
+			c.Samples = cols[i]
+		} else {
+			c.Samples = resampleLinear(cols[i], times, grid, gaps)
+		}
+		c.Gaps, _ = window.NormalizeGaps(window.InvalidRuns(nil, c.Samples, c.RateHz, 0))
+		rec.Channels = append(rec.Channels, c)
+	}
+	sortAnnotations(rec.Annotations)
+	return rec, nil
+}
+
+// scaledDuration returns v units of scale seconds, exactly for whole
+// numbers of a unit that is a whole number of nanoseconds (Unix ms stamps).
+func scaledDuration(v, scale float64) time.Duration {
+	ns := scale * 1e9
+	if v == math.Trunc(v) && math.Abs(v) < 1<<53 && ns == math.Trunc(ns) && ns >= 1 {
+		return time.Duration(int64(v) * int64(ns))
+	}
+	return time.Duration(math.Round(v * ns))
+}
+
+func parseISOTime(s string) (time.Time, error) {
+	for _, layout := range []string{time.RFC3339Nano, "2006-01-02T15:04:05.999999999", "2006-01-02 15:04:05.999999999Z07:00", "2006-01-02 15:04:05.999999999"} {
+		if t, err := time.Parse(layout, s); err == nil {
+			return t.UTC(), nil
+		}
+	}
+	return time.Time{}, ErrData
+}
+
+type csvGridSpec struct {
+	rate float64
+	n    int
+}
+
+// csvGrid decides whether the times are uniform; if not it returns the grid
+// and the report. gaps lists the source intervals [i, i+1] that are gaps.
+func csvGrid(times []float64, opt CSVOptions, force bool) (csvGridSpec, *ResampleReport, []bool, error) {
+	n := len(times)
+	d := make([]float64, n-1)
+	for i := range d {
+		d[i] = times[i+1] - times[i]
+	}
+	s := append([]float64(nil), d...)
+	sort.Float64s(s)
+	med := s[len(s)/2]
+	if len(s)%2 == 0 {
+		med = (s[len(s)/2-1] + s[len(s)/2]) / 2
+	}
+	if s[0] >= med*(1-uniformTolerance) && s[len(s)-1] <= med*(1+uniformTolerance) && opt.RateHz == 0 && !force {
+		rate := float64(n-1) / times[n-1]
+		if r := math.Round(rate); math.Abs(rate-r) <= uniformTolerance*rate {
+			rate = r
+		}
+		return csvGridSpec{rate: rate, n: n}, nil, nil, nil
+	}
+	rate := opt.RateHz
+	if rate == 0 {
+		rate = 1 / med
+		// Snap to a whole number of Hz when within 1e-6: sampling rates
+		// are integers in practice, and text times round the median.
+		if r := math.Round(rate); math.Abs(rate-r) <= 1e-6*rate {
+			rate = r
+		}
+	}
+	if !(rate > 0) || math.IsInf(rate, 0) {
+		return csvGridSpec{}, nil, nil, fmt.Errorf("resampling rate %v Hz: %w", rate, ErrHeader)
+	}
+	gf := opt.GapFactor
+	if gf == 0 {
+		gf = 3
+	}
+	rep := &ResampleReport{Method: "linear interpolation onto a uniform grid", RateHz: rate, SourceSamples: n, MedianS: med, MinS: s[0], MaxS: s[len(s)-1]}
+	gaps := make([]bool, n-1)
+	var sum, sum2 float64
+	for i, x := range d {
+		sum += x
+		if x > gf*med {
+			gaps[i] = true
+			rep.Gaps++
+			rep.GapS += x
+		} else {
+			rep.MaxJitterS = math.Max(rep.MaxJitterS, math.Abs(x-med))
+		}
+	}
+	rep.MeanS = sum / float64(len(d))
+	for _, x := range d {
+		sum2 += (x - rep.MeanS) * (x - rep.MeanS)
+	}
+	rep.SDS = math.Sqrt(sum2 / float64(len(d)))
+	out := math.Floor(times[n-1]*rate*(1+1e-12)) + 1
+	// The grid may not outgrow the rows read by more than a small factor
+	// (a lying timestamp must not allocate without bound).
+	if limit := float64(edfGapFillFactor*n + edfGapFillSlack); out > limit {
+		return csvGridSpec{}, nil, nil, fmt.Errorf("timestamps span %v s: %v resampled samples from %d rows: %w", times[n-1], out, n, ErrTooLarge)
+	}
+	rep.OutputSamples = int(out)
+	return csvGridSpec{rate: rate, n: int(out)}, rep, gaps, nil
+}
+
+// resampleLinear interpolates x (at times) onto the grid; grid points inside
+// a gap interval or next to a NaN are NaN.
+func resampleLinear(x, times []float64, g csvGridSpec, gaps []bool) []float64 {
+	out := make([]float64, g.n)
+	j := 0
+	for k := range out {
+		t := float64(k) / g.rate
+		for j+1 < len(times)-1 && times[j+1] <= t {
+			j++
+		}
+		if j+1 >= len(times) {
+			out[k] = x[len(x)-1]
+			continue
+		}
+		if t >= times[len(times)-1] {
+			out[k] = x[len(x)-1]
+			continue
+		}
+		if gaps[j] && t > times[j]+1e-9/g.rate {
+			out[k] = nan
+			continue
+		}
+		a := (t - times[j]) / (times[j+1] - times[j])
+		switch {
+		case a == 0:
+			out[k] = x[j]
+		default:
+			out[k] = x[j] + a*(x[j+1]-x[j])
+		}
+	}
+	return out
+}
+
+// labelAnnotations turns a label column into one annotation per run.
+func labelAnnotations(labels []string, times []float64, col string) []Annotation {
+	var out []Annotation
+	end := times[len(times)-1]
+	for i := 0; i < len(labels); {
+		j := i
+		for j < len(labels) && labels[j] == labels[i] {
+			j++
+		}
+		stop := end
+		if j < len(labels) {
+			stop = times[j]
+		}
+		if labels[i] != "" {
+			out = append(out, Annotation{Time: times[i], Duration: stop - times[i], Sample: -1, Code: "", Text: labels[i], Annotator: "csv:" + col})
+		}
+		i = j
+	}
+	return out
+}

@@ -1,0 +1,195 @@
+package recording
+
+import (
+	"errors"
+	"math"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/tidalbeat/tidalbeat/internal/refdata"
+)
+
+func TestCSVUniform(t *testing.T) {
+	in := "# chest strap export\ntime[s],ECG[mV],acc_x[m/s2],Resp chest\n0,0.1,9.8,1\n0.02,0.2,9.7,\n0.04,0.3,9.6,3\n0.06,NaN,9.5,4\n"
+	rec, err := ReadCSV(strings.NewReader(in), "u.csv", CSVOptions{Units: map[string]string{"Resp chest": "V"}}, time.Time{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rec.Resample != nil || len(rec.Channels) != 3 {
+		t.Fatalf("uniform times were resampled (%+v) or channels %d", rec.Resample, len(rec.Channels))
+	}
+	finish(rec, Options{})
+	want := []struct {
+		name, unit string
+		role       Role
+	}{{"ECG", "mV", RoleECG}, {"acc_x", "m/s2", RoleAccX}, {"Resp chest", "V", RoleRibCage}}
+	for i, w := range want {
+		c := rec.Channels[i]
+		if c.Name != w.name || c.Unit != w.unit || c.Role != w.role || c.RateHz != 50 || len(c.Samples) != 4 {
+			t.Errorf("channel %d: %q %q %v %v Hz %d", i, c.Name, c.Unit, c.Role, c.RateHz, len(c.Samples))
+		}
+	}
+	if g := rec.Channels[2].Gaps; len(g) != 1 || math.Abs(g[0].Start-0.02) > 1e-12 || !math.IsNaN(rec.Channels[2].Samples[1]) {
+		t.Errorf("empty cell: %v %v", rec.Channels[2].Samples, g)
+	}
+	if !math.IsNaN(rec.Channels[0].Samples[3]) || len(rec.Channels[0].Gaps) != 1 {
+		t.Errorf("NaN cell: %v", rec.Channels[0].Samples)
+	}
+}
+
+func TestCSVIrregularISO(t *testing.T) {
+	// x = 2t + 1 sampled at jittered ISO-8601 times: linear interpolation of
+	// a linear function is exact (derived), so every grid value is 2t + 1.
+	// Intervals 0.09, 0.11, 0.10, 0.10, 0.12, 0.08 s: median 0.10 s.
+	ts := []float64{0, 0.09, 0.20, 0.30, 0.40, 0.52, 0.60}
+	base := time.Date(2026, 6, 1, 9, 0, 0, 0, time.UTC)
+	var b strings.Builder
+	b.WriteString("timestamp,value[cm],label\n")
+	for i, s := range ts {
+		lab := "run"
+		if i >= 4 {
+			lab = "walk"
+		}
+		b.WriteString(base.Add(time.Duration(s*1e9)).Format(time.RFC3339Nano) + "," + ftoa(2*s+1) + "," + lab + "\n")
+	}
+	rec, err := ReadCSV(strings.NewReader(b.String()), "i.csv", CSVOptions{}, time.Time{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rec.StartKnown || !rec.Start.Equal(base) {
+		t.Errorf("start %v", rec.Start)
+	}
+	r := rec.Resample
+	if r == nil {
+		t.Fatal("irregular times not reported")
+	}
+	// Statistics of the intervals above, derived by hand: mean 0.1, SD
+	// sqrt((0.01^2*4 + 0.02^2*2... )/6), largest |d - median| 0.02.
+	sd := math.Sqrt((0.0001 + 0.0001 + 0 + 0 + 0.0004 + 0.0004) / 6)
+	if math.Abs(r.MedianS-0.1) > 1e-9 || math.Abs(r.MeanS-0.1) > 1e-9 || math.Abs(r.SDS-sd) > 1e-9 || math.Abs(r.MaxJitterS-0.02) > 1e-9 ||
+		r.RateHz != 10 || r.SourceSamples != 7 || r.OutputSamples != 7 || r.Gaps != 0 || r.Method == "" {
+		t.Errorf("report %+v (want SD %v)", r, sd)
+	}
+	c := rec.Channels[0]
+	if len(c.Samples) != 7 || c.RateHz != 10 || c.Unit != "cm" {
+		t.Fatalf("channel %+v", c)
+	}
+	for k, v := range c.Samples {
+		if want := 2*float64(k)/10 + 1; math.Abs(v-want) > 1e-9 {
+			t.Errorf("grid %d: %v, want %v", k, v, want)
+		}
+	}
+	if len(rec.Annotations) != 2 || rec.Annotations[0].Text != "run" || rec.Annotations[1].Text != "walk" ||
+		math.Abs(rec.Annotations[1].Time-0.40) > 1e-9 || math.Abs(rec.Annotations[0].Duration-0.40) > 1e-9 {
+		t.Errorf("label annotations %+v", rec.Annotations)
+	}
+}
+
+func TestCSVDuplicateTimes(t *testing.T) {
+	// Rows sharing a timestamp are averaged (valid values only) and counted.
+	in := "t,x,y\n0,1,\n0,3,5\n1,2,6\n2,4,7\n"
+	rec, err := ReadCSV(strings.NewReader(in), "d.csv", CSVOptions{}, time.Time{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r := rec.Resample; r == nil || r.Duplicates != 1 || r.SourceSamples != 4 || r.OutputSamples != 3 {
+		t.Fatalf("report %+v", r)
+	}
+	if x, y := rec.Channels[0].Samples, rec.Channels[1].Samples; x[0] != 2 || x[1] != 2 || y[0] != 5 || y[2] != 7 {
+		t.Errorf("x %v y %v", x, y)
+	}
+}
+
+func ftoa(v float64) string { return strings.TrimRight(strings.TrimRight(strconvF(v), "0"), ".") }
+
+func TestCSVGapNotBridged(t *testing.T) {
+	// A 1 s hole in 0.1 s data (more than 3 medians) stays NaN.
+	in := "t,x\n0,0\n0.1,1\n0.2,2\n1.2,12\n1.3,13\n1.41,14.1\n"
+	rec, err := ReadCSV(strings.NewReader(in), "g.csv", CSVOptions{}, time.Time{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, c := rec.Resample, rec.Channels[0]
+	if r == nil || r.Gaps != 1 || math.Abs(r.GapS-1) > 1e-9 {
+		t.Fatalf("report %+v", r)
+	}
+	for k, v := range c.Samples {
+		tk := float64(k) / 10
+		inGap := tk > 0.2+1e-9 && tk < 1.2-1e-9
+		if inGap != math.IsNaN(v) || (!inGap && math.Abs(v-10*tk) > 1e-9) {
+			t.Errorf("grid %d (%.1f s) = %v", k, tk, v)
+		}
+	}
+	if len(c.Gaps) != 1 || math.Abs(c.Gaps[0].Start-0.3) > 1e-9 || math.Abs(c.Gaps[0].End-1.2) > 1e-9 {
+		t.Errorf("gaps %v", c.Gaps)
+	}
+}
+
+func TestCSVErrors(t *testing.T) {
+	cases := []struct {
+		in, says string
+		want     error
+	}{
+		{"", "no header", ErrHeader},
+		{"time\n1\n", "column", ErrHeader},
+		{"t,x\n0,1\n", "at least 2", ErrData},
+		{"t,x\n0,1\n1,2\n0.5,3\n", "before", ErrData},
+		{"t,x\n0,1\n0,2\n", "at least 2", ErrData}, // a repeated time merges into one row
+		{"t,x\n0,1\n1,abc\n", "not a number", ErrData},
+		{"t,x\n0,1\nnoon,2\n", "time", ErrData},
+		{"t,x\n0,1\n1,2,3\n", "row 3", ErrData},
+		{"t[h],x\n0,1\n1,2\n", "unit", ErrHeader},
+		{"t,x\n0,1\n0.1,2\n0.2,3\n1e12,4\n", "resampled samples", ErrTooLarge},
+	}
+	for _, c := range cases {
+		_, err := ReadCSV(strings.NewReader(c.in), "bad.csv", CSVOptions{}, time.Time{})
+		if !errors.Is(err, c.want) || !strings.Contains(err.Error(), c.says) || !strings.Contains(err.Error(), "bad.csv") {
+			t.Errorf("%q: err %v, want %v naming %q", c.in, err, c.want, c.says)
+		}
+	}
+}
+
+func TestCSVRealWatchExport(t *testing.T) {
+	// Watch accelerometer export of the phone/watch HAR dataset (Matey-Sanz
+	// et al. 2023, Data in Brief 51:109809): Unix-ms timestamps at about
+	// 100 Hz with jitter, and an activity label per sample.
+	p := refdata.Shared(t, "open-data/har-phone-watch/DATA/s01/s01_01_sw.csv")
+	rec, err := OpenWith(p, Options{CSV: CSVOptions{TimeColumn: "timestamp", EpochTime: true, Units: map[string]string{"timestamp": "ms"}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// First row's timestamp, 1657533977810 ms; 1377 data rows; label runs
+	// SEATED, STANDING_UP, WALKING, TURNING, WALKING, TURNING, SITTING_DOWN,
+	// SEATED (read from the file).
+	if want := time.UnixMilli(1657533977810).UTC(); !rec.Start.Equal(want) || !rec.StartKnown {
+		t.Errorf("start %v, want %v", rec.Start, want)
+	}
+	r := rec.Resample
+	if r == nil || r.SourceSamples != 1377 || r.Duplicates == 0 || math.Abs(r.MedianS-0.010) > 1e-9 || r.RateHz != 100 || r.SDS <= 0 {
+		t.Fatalf("report %+v", r)
+	}
+	for i, role := range []Role{RoleAccX, RoleAccY, RoleAccZ} {
+		if c := rec.Channels[i]; c.Role != role || c.RateHz != 100 || len(c.Samples) != r.OutputSamples {
+			t.Errorf("channel %d %q role %v rate %v", i, c.Name, c.Role, c.RateHz)
+		}
+	}
+	labels := []string{"SEATED", "STANDING_UP", "WALKING", "TURNING", "WALKING", "TURNING", "SITTING_DOWN", "SEATED"}
+	if len(rec.Annotations) != len(labels) {
+		t.Fatalf("%d label annotations, want %d", len(rec.Annotations), len(labels))
+	}
+	for i, l := range labels {
+		if rec.Annotations[i].Text != l || rec.Annotations[i].Annotator != "csv:label" {
+			t.Errorf("annotation %d %+v, want %s", i, rec.Annotations[i], l)
+		}
+	}
+	// Gravity magnitude near 9.81 m/s2 at rest (first samples, seated):
+	// a plausibility check on the axes (common practice).
+	x, y, z := rec.Channels[0].Samples[0], rec.Channels[1].Samples[0], rec.Channels[2].Samples[0]
+	if g := math.Sqrt(x*x + y*y + z*z); math.Abs(g-9.81) > 0.5 {
+		t.Errorf("|g| = %v m/s2 at rest", g)
+	}
+}
+
+func strconvF(v float64) string { return strconv.FormatFloat(v, 'f', 6, 64) }
