@@ -114,9 +114,11 @@ type Breath struct {
 	Quality Quality
 }
 
-// Excursion is the peak-to-peak excursion of the calibrated sum and of each
-// weighted band over a span of a pause between breaths (spans are at most
-// Options.ExcursionSpanS long). Event scoring reads breaths and excursions
+// Excursion is the excursion of the calibrated sum and of each weighted band
+// over a span of a pause between breaths (spans are at most
+// Options.ExcursionSpanS long), as the peak-to-peak of a sine with the same
+// standard deviation (2*sqrt(2)*SD): equal to the peak-to-peak for shallow
+// breathing, and not inflated by the end of the expiration before a pause. Event scoring reads breaths and excursions
 // together as one timeline of breathing amplitude.
 type Excursion struct {
 	Start, End float64 // s from the recording start
@@ -170,13 +172,15 @@ type Options struct {
 	// MinBreathS is the shortest accepted breath (s): 0.8 when zero
 	// (75 breaths/min, above hard-exercise rates; common practice).
 	MinBreathS float64
-	// PauseMinS: a trough flatter than this (within PauseTolFrac of its
-	// minimum for longer) is split into end of expiration and next onset
-	// with a pause between: 2 s when zero (our choice; shorter end-expiratory
-	// pauses stay part of Te as is usual).
+	// PauseMinS: a trough that stays within PauseTolFrac of its floor for
+	// longer than this (and than half the recent breath length) is split
+	// into end of expiration and next onset with a pause between: 2 s when
+	// zero (our choice; shorter end-expiratory pauses stay part of Te as is
+	// usual).
 	PauseMinS float64
 	// PauseTolFrac is the tolerance, as a fraction of the breath's amplitude,
-	// for "at the trough": 0.05 when zero.
+	// for "at the trough": 0.1 when zero (our choice: above the residual of
+	// an imperfectly calibrated sum during obstructed efforts).
 	PauseTolFrac float64
 	// SighFactor marks a breath as a sigh when its volume is at least this
 	// multiple of the recent median: 2 when zero (common practice: a sigh
@@ -199,7 +203,8 @@ type Options struct {
 	// least ClipRunS is clipping, for at least FlatRunS band loss: 0.1 s and
 	// 2 s when zero (our choice).
 	ClipRunS, FlatRunS float64
-	// ExcursionSpanS is the longest span of a pause excursion: 2 s when zero.
+	// ExcursionSpanS is the longest span of a pause excursion: 4 s when zero
+	// (about one resting breath, so a span sees a whole shallow breath).
 	ExcursionSpanS float64
 	// BufferS is the signal history the detector keeps (s): 120 when zero.
 	// A pause longer than this ends the breath before it with
@@ -234,14 +239,14 @@ func (o Options) withDefaults() (Options, error) {
 		{&o.HysteresisFrac, 0.15, "HysteresisFrac"},
 		{&o.MinBreathS, 0.8, "MinBreathS"},
 		{&o.PauseMinS, 2, "PauseMinS"},
-		{&o.PauseTolFrac, 0.05, "PauseTolFrac"},
+		{&o.PauseTolFrac, 0.1, "PauseTolFrac"},
 		{&o.SighFactor, 2, "SighFactor"},
 		{&o.ParadoxDeg, 90, "ParadoxDeg"},
 		{&o.MotionFrac, 0.1, "MotionFrac"},
 		{&o.MotionAmpFactor, 5, "MotionAmpFactor"},
 		{&o.ClipRunS, 0.1, "ClipRunS"},
 		{&o.FlatRunS, 2, "FlatRunS"},
-		{&o.ExcursionSpanS, 2, "ExcursionSpanS"},
+		{&o.ExcursionSpanS, 4, "ExcursionSpanS"},
 		{&o.BufferS, 120, "BufferS"},
 	} {
 		if err := def(d.p, d.v, d.name); err != nil {

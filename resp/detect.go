@@ -138,6 +138,9 @@ type core struct {
 	lastAccept   int
 	amps         []float64 // recent clean breath amplitudes (ring)
 	ribs, abds   []float64
+	tis, tes     []float64
+	medTi, medTe float64 // recent median Ti, Te (s); 1.5 and 2.5 before any breath
+	medTtot      float64
 	recentPos    int
 	ref          float64 // median of amps
 	refRib       float64
@@ -204,9 +207,12 @@ func newCore(opt Options) (*core, error) {
 	c.spanN = max(1, int(math.Round(o.ExcursionSpanS*o.RateHz)))
 	c.pauseMinN = int(math.Round(o.PauseMinS * o.RateHz))
 	c.minBreathN = int(math.Round(o.MinBreathS * o.RateHz))
+	c.medTi, c.medTe, c.medTtot = 1.5, 2.5, 4
 	c.amps = make([]float64, 0, nRecent)
 	c.ribs = make([]float64, 0, nRecent)
 	c.abds = make([]float64, 0, nRecent)
+	c.tis = make([]float64, 0, nRecent)
+	c.tes = make([]float64, 0, nRecent)
 	c.resetState()
 	return c, nil
 }
@@ -377,29 +383,39 @@ func (c *core) step(rib, abd float64) {
 	c.n++
 }
 
-// troughBounds returns the end of expiration (first sample after from at
-// the trough level) and the next onset (last sample before the current one
-// at the trough level) for the trough at tr, with tolerance tol.
-func (c *core) troughBounds(from, tr int, tol float64) (endExp, next int) {
-	lvl := c.m[tr%c.cap] + tol
-	endExp = tr
-	for i := from; i <= tr; i++ {
-		if c.m[i%c.cap] <= lvl {
-			endExp = i
-			break
+// endExpAt returns the end of expiration after the peak at from: the first
+// sample within tol of the floor of the expected expiration span (1.5 times
+// the recent median Te plus 1 s, searched no further than to), so a floor
+// drifting down during a long pause does not drag it late.
+func (c *core) endExpAt(from, to int, tol float64) int {
+	hi := min(to, from+int((1.5*c.medTe+1)*c.fs))
+	lo := math.Inf(1)
+	for i := from; i <= hi; i++ {
+		lo = math.Min(lo, c.m[i%c.cap])
+	}
+	for i := from; i <= hi; i++ {
+		if c.m[i%c.cap] <= lo+tol {
+			return i
 		}
 	}
-	next = tr
-	for j := c.n; j >= tr; j-- {
-		if c.m[j%c.cap] <= lvl {
-			next = j
-			break
+	return hi
+}
+
+// onsetAt returns the inspiration onset before the rise detected at c.n: the
+// last sample within tol of the floor of the preceding span of max(2 s, 1.5
+// times the recent median Ti), never before from.
+func (c *core) onsetAt(from int, tol float64) int {
+	lo := max(from, c.n-int(math.Max(2, 1.5*c.medTi)*c.fs))
+	fl := math.Inf(1)
+	for j := lo; j <= c.n; j++ {
+		fl = math.Min(fl, c.m[j%c.cap])
+	}
+	for j := c.n; j >= lo; j-- {
+		if c.m[j%c.cap] <= fl+tol {
+			return j
 		}
 	}
-	if next-endExp < c.pauseMinN {
-		endExp, next = tr, tr
-	}
-	return endExp, next
+	return lo
 }
 
 // rise handles the switch from expiration to inspiration at sample c.n.
@@ -413,7 +429,17 @@ func (c *core) rise(ref float64) {
 	} else if c.quietFrom >= 0 {
 		from = c.quietFrom
 	}
-	endExp, next := c.troughBounds(from, tr, tol)
+	next := c.onsetAt(from, tol)
+	endExp := next
+	if c.peak >= 0 {
+		endExp = c.endExpAt(c.peak, next, tol)
+	}
+	// A trough is split into end of expiration, pause and onset only when
+	// the flat part is long: PauseMinS, or half the recent breath length
+	// for slow breathing.
+	if next-endExp < max(c.pauseMinN, int(0.5*c.medTtot*c.fs)) {
+		endExp, next = tr, tr
+	}
 	switch {
 	case c.peak >= 0 && c.onset >= 0:
 		c.finish(c.onset, c.peak, endExp, next, ref, false)
@@ -430,14 +456,7 @@ func (c *core) rise(ref float64) {
 // buffer; the pause continues as excursion spans.
 func (c *core) forcePause(ref float64) {
 	tol := c.o.PauseTolFrac * (c.m[c.peak%c.cap] - c.m[c.ext%c.cap])
-	lvl := c.m[c.ext%c.cap] + tol
-	endExp := c.ext
-	for i := c.peak; i <= c.ext; i++ {
-		if c.m[i%c.cap] <= lvl {
-			endExp = i
-			break
-		}
-	}
+	endExp := c.endExpAt(c.peak, c.n, tol)
 	c.finish(c.onset, c.peak, endExp, c.n, ref, true)
 	c.onset, c.peak = -1, -1
 	c.quietFrom = c.n
@@ -449,9 +468,26 @@ func (c *core) emitQuiet(i, j int) {
 		e := min(s+c.spanN, j)
 		c.out.Pauses = append(c.out.Pauses, Excursion{
 			Start: c.t(s), End: c.t(e),
-			SumAU: c.p2p(c.m, s, e-1), RibExcAU: c.p2p(c.rf, s, e-1), AbdExcAU: c.p2p(c.af, s, e-1),
+			SumAU: c.sdExc(c.m, s, e-1), RibExcAU: c.a * c.sdExc(c.rl, s, e-1), AbdExcAU: c.b * c.sdExc(c.al, s, e-1),
 		})
 	}
+}
+
+// sdExc is the sine-equivalent peak-to-peak excursion 2*sqrt(2)*SD over
+// samples i..j: exact for shallow breaths, and little moved by the tail of
+// the expiration that ends where a pause begins (which a plain
+// peak-to-peak would count in full).
+func (c *core) sdExc(x []float64, i, j int) float64 {
+	var s, ss float64
+	n := float64(j - i + 1)
+	x0 := x[i%c.cap]
+	for k := i; k <= j; k++ {
+		v := x[k%c.cap] - x0
+		s += v
+		ss += v * v
+	}
+	v := ss/n - (s/n)*(s/n)
+	return 2 * math.Sqrt(2*math.Max(0, v))
 }
 
 func (c *core) p2p(x []float64, i, j int) float64 {
@@ -490,8 +526,10 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 		b.VtL = vt
 		b.FlowLs = vt / ti
 	}
-	b.RibExcAU = c.p2p(c.rf, on, endExp)
-	b.AbdExcAU = c.p2p(c.af, on, endExp)
+	// Band excursions on the low-passed bands (no high-pass, whose slow
+	// relaxation after a last breath would look like effort).
+	b.RibExcAU = c.a * c.p2p(c.rl, on, endExp)
+	b.AbdExcAU = c.b * c.p2p(c.al, on, endExp)
 	b.PhaseXcorrDeg = c.xcorrPhase(on, endExp)
 	b.PhaseLissajousDeg = c.lissajous(on, endExp)
 	ph := math.Abs(b.PhaseXcorrDeg)
@@ -535,24 +573,30 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 		c.emitQuiet(endExp, next)
 	}
 	if b.Quality&^QualityLongPause == 0 {
-		c.remember(vt, b.RibExcAU, b.AbdExcAU)
+		c.remember(vt, b.RibExcAU, b.AbdExcAU, b.TiS, b.TeS)
 		c.lastAccept = c.n
 	}
 }
 
-func (c *core) remember(vt, rib, abd float64) {
+func (c *core) remember(vt, rib, abd, ti, te float64) {
 	if len(c.amps) < nRecent {
 		c.amps = append(c.amps, vt)
 		c.ribs = append(c.ribs, rib)
 		c.abds = append(c.abds, abd)
+		c.tis = append(c.tis, ti)
+		c.tes = append(c.tes, te)
 	} else {
-		c.amps[c.recentPos], c.ribs[c.recentPos], c.abds[c.recentPos] = vt, rib, abd
+		k := c.recentPos
+		c.amps[k], c.ribs[k], c.abds[k], c.tis[k], c.tes[k] = vt, rib, abd, ti, te
 		c.recentPos = (c.recentPos + 1) % nRecent
 	}
 	var buf [nRecent]float64
 	c.ref = medianInto(buf[:0], c.amps)
 	c.refRib = medianInto(buf[:0], c.ribs)
 	c.refAbd = medianInto(buf[:0], c.abds)
+	c.medTi = medianInto(buf[:0], c.tis)
+	c.medTe = medianInto(buf[:0], c.tes)
+	c.medTtot = c.medTi + c.medTe
 }
 
 func medianInto(buf, x []float64) float64 {

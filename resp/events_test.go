@@ -1,0 +1,161 @@
+package resp_test
+
+import (
+	"math"
+	"testing"
+
+	"github.com/tidalbeat/tidalbeat/resp"
+)
+
+// piece is a stretch of synthetic breathing: the sum's amplitude and an
+// antiphase effort moving the bands against each other without changing the
+// sum.
+type piece struct {
+	durS, sum, paradox float64
+}
+
+// pieces renders pieces of ~4 s half-cosine breaths (Ti/Ttot 0.4), each
+// piece a whole number of breaths, at 25 Hz.
+func pieces(ps []piece) (rib, abd []float64, fs float64) {
+	fs = 25
+	for _, p := range ps {
+		nb := math.Max(1, math.Round(p.durS/4))
+		tt := p.durS / nb
+		n := int(math.Round(p.durS * fs))
+		for i := 0; i < n; i++ {
+			t := math.Mod(float64(i)/fs, tt)
+			ti := 0.4 * tt
+			var w float64
+			if t < ti {
+				w = 0.5 * (1 - math.Cos(math.Pi*t/ti))
+			} else {
+				w = 0.5 * (1 + math.Cos(math.Pi*(t-ti)/(tt-ti)))
+			}
+			s := p.sum * w
+			q := p.paradox * w
+			rib = append(rib, 0.4*s-q)
+			abd = append(abd, 0.6*s+q)
+		}
+	}
+	return rib, abd, fs
+}
+
+func events(t *testing.T, ps []piece, opt resp.EventOptions) []resp.Event {
+	t.Helper()
+	rib, abd, fs := pieces(ps)
+	r, err := resp.Detect(rib, abd, resp.Options{RateHz: fs})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ev, err := resp.DetectEvents(r, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return ev
+}
+
+func TestAASMAmplitudeAndDuration(t *testing.T) {
+	// methods reference 5.5 check values (derived from the AASM rules, Berry
+	// et al. 2012): envelope drop 92 % for 12 s -> apnea; 95 % for 9 s -> none;
+	// 85 % for 12 s -> hypopnea-amplitude candidate only; each threshold
+	// probed on both sides (drop 88 % vs 92 %, 25 % vs 40 %, 9 s vs 11-12 s).
+	normal := piece{120, 1, 0}
+	after := piece{60, 1, 0}
+	cases := []struct {
+		name     string
+		drop, d  float64
+		wantN    int
+		wantKind resp.EventKind
+	}{
+		{"92% 12 s: apnea", 0.92, 12, 1, resp.EventApnea},
+		{"95% 9 s: too short", 0.95, 9, 0, 0},
+		{"85% 12 s: hypopnea only", 0.85, 12, 1, resp.EventHypopnea},
+		{"40% 16 s: hypopnea", 0.40, 16, 1, resp.EventHypopnea},
+		{"40% 8 s: too short", 0.40, 8, 0, 0},
+		{"25% 16 s: below the 30% drop", 0.25, 16, 0, 0},
+	}
+	for _, c := range cases {
+		ev := events(t, []piece{normal, {c.d, 1 - c.drop, 0}, after}, resp.EventOptions{})
+		if len(ev) != c.wantN {
+			t.Errorf("%s: %d events %+v, want %d (Berry et al. 2012; methods 5.5, derived)", c.name, len(ev), ev, c.wantN)
+			continue
+		}
+		if c.wantN == 1 {
+			e := ev[0]
+			if e.Kind != c.wantKind || math.Abs(e.Start-120) > 1.5 || math.Abs(e.DurationS-c.d) > 2.5 {
+				t.Errorf("%s: %+v, want %v from 120 s for %v s", c.name, e, c.wantKind, c.d)
+			}
+			if !math.IsNaN(e.DesatPct) || e.Rule1A || e.Rule1B {
+				t.Errorf("%s: desaturation without SpO2: %+v", c.name, e)
+			}
+		}
+	}
+}
+
+func TestAASMHypopneaDesaturation(t *testing.T) {
+	// methods reference 5.5 (derived; AASM rule 1A needs >= 3 % desaturation,
+	// 1B >= 4 %, Berry et al. 2012): 40 % drop for 16 s with a 3 % SpO2 drop
+	// meets 1A, not 1B; with 4.5 % both; with 2 % neither.
+	for _, c := range []struct {
+		desat  float64
+		a1, b1 bool
+	}{{3, true, false}, {4.5, true, true}, {2, false, false}} {
+		spo2 := make([]float64, 200)
+		for i := range spo2 {
+			spo2[i] = 97
+			if i >= 140 && i < 150 { // nadir 4-14 s after the event ends
+				spo2[i] = 97 - c.desat
+			}
+		}
+		ev := events(t, []piece{{120, 1, 0}, {16, 0.6, 0}, {60, 1, 0}}, resp.EventOptions{SpO2: spo2, SpO2RateHz: 1})
+		if len(ev) != 1 || ev[0].Kind != resp.EventHypopnea {
+			t.Fatalf("desat %v: events %+v", c.desat, ev)
+		}
+		e := ev[0]
+		if math.Abs(e.DesatPct-c.desat) > 1e-9 || e.Rule1A != c.a1 || e.Rule1B != c.b1 {
+			t.Errorf("desat %v: got %v, 1A %v, 1B %v; want 1A %v, 1B %v (Berry et al. 2012)", c.desat, e.DesatPct, e.Rule1A, e.Rule1B, c.a1, c.b1)
+		}
+	}
+}
+
+func TestApneaClassification(t *testing.T) {
+	// methods reference 5.5 (derived): both belts flat during a 15 s apnea ->
+	// central; belts moving in antiphase (sum flat) -> obstructive; flat then
+	// effort resuming -> mixed (AASM definitions via a secondary guide).
+	cases := []struct {
+		name string
+		ev   []piece
+		want resp.EventClass
+	}{
+		{"both flat", []piece{{16, 0, 0}}, resp.ClassCentral},
+		{"antiphase", []piece{{16, 0, 0.8}}, resp.ClassObstructive},
+		{"flat then effort", []piece{{8, 0, 0}, {12, 0, 0.8}}, resp.ClassMixed},
+	}
+	for _, c := range cases {
+		ps := append([]piece{{120, 1, 0}}, c.ev...)
+		ps = append(ps, piece{60, 1, 0})
+		ev := events(t, ps, resp.EventOptions{})
+		if len(ev) != 1 || ev[0].Kind != resp.EventApnea || ev[0].Class != c.want {
+			t.Errorf("%s: %+v, want one %v apnea", c.name, ev, c.want)
+		}
+	}
+	// A hypopnea with paradoxical bands is obstructive; in phase, central
+	// (AASM optional hypopnea classification, from memory).
+	for _, c := range []struct {
+		paradox float64
+		want    resp.EventClass
+	}{{0, resp.ClassCentral}, {0.8, resp.ClassObstructive}} {
+		ev := events(t, []piece{{120, 1, 0}, {16, 0.5, c.paradox}, {60, 1, 0}}, resp.EventOptions{})
+		if len(ev) != 1 || ev[0].Kind != resp.EventHypopnea || ev[0].Class != c.want {
+			t.Errorf("hypopnea with paradox %v: %+v, want %v", c.paradox, ev, c.want)
+		}
+	}
+}
+
+func TestEventOptionsRejected(t *testing.T) {
+	for _, o := range []resp.EventOptions{{ApneaDrop: math.NaN()}, {HypopneaDrop: 0.95}, {SpO2: []float64{97}}, {MinDurationS: -1}} {
+		if _, err := resp.DetectEvents(resp.Result{}, o); err == nil {
+			t.Errorf("options %+v accepted", o)
+		}
+	}
+}
