@@ -185,4 +185,3 @@ func readTable(t *testing.T, path string) []string {
 	}
 	return out
 }
-
