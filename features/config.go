@@ -80,6 +80,11 @@ type Config struct {
 	LabelSpan time.Duration `json:"label_span_ns"`
 }
 
+// Resolved returns the configuration with every zero value replaced by its
+// default, as Extract uses it (the form written to sidecars), or the error
+// that makes it unusable (wrapping ErrConfig).
+func (c Config) Resolved() (Config, error) { return c.withDefaults() }
+
 // withDefaults returns c with zero values replaced and checks it.
 func (c Config) withDefaults() (Config, error) {
 	if c.Step == 0 {
@@ -93,6 +98,9 @@ func (c Config) withDefaults() (Config, error) {
 	}
 	if c.ActivityWindow == 0 {
 		c.ActivityWindow = DefaultActivityWindow
+	}
+	if c.MinCoverage == 0 {
+		c.MinCoverage = window.DefaultMinCoverage
 	}
 	if c.LabelSpan == 0 {
 		c.LabelSpan = c.Step

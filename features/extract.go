@@ -171,7 +171,7 @@ func Extract(rec *recording.Recording, cfg Config) (*Table, error) {
 	if err != nil {
 		return nil, fmt.Errorf("features: %s: %w", rec.Name, err)
 	}
-	t := &Table{Record: rec.Name, Columns: p.cols}
+	t := &Table{Record: rec.Name, Columns: p.cols, StartKnown: rec.StartKnown && !rec.Start.IsZero()}
 	index := map[int64]int{}
 	for w := range it {
 		index[w.Seq] = len(t.Rows)

@@ -219,7 +219,11 @@ func lastTime(t []float64) float64 {
 // runEvents is runWindow for an event family with one input: invalid
 // windows keep empty values and the engine's reason.
 func (f *family) runEvents(w window.Window, beats []beat, gaps []window.Interval, length float64, detected bool) famResult {
-	return f.runWindowWith([]seg{{w: w, ok: true}}, func(out cells) string {
+	return f.runWindowWith([]seg{{w: w, ok: true}}, func(out cells, valid bool) string {
+		if !valid {
+			out.v[0] = float64(len(beats))
+			return ""
+		}
 		return hrvCore(w, beats, gaps, length, detected, out)
 	})
 }

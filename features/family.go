@@ -95,12 +95,19 @@ type famResult struct {
 // combines the channels' coverage (the minimum: a window is only as covered
 // as its worst channel), skips the core for invalid windows and records why.
 func (f *family) runWindow(segs []seg) famResult {
-	return f.runWindowWith(segs, func(out cells) string { return f.core(segs, out) })
+	return f.runWindowWith(segs, func(out cells, valid bool) string {
+		if !valid {
+			return ""
+		}
+		return f.core(segs, out)
+	})
 }
 
 // runWindowWith is runWindow with the core given as a closure (event
-// families pass their events this way).
-func (f *family) runWindowWith(segs []seg, core func(out cells) string) famResult {
+// families pass their events this way). For an invalid window the core is
+// called with valid false and fills only its counts (the counts behind the
+// empty values); the window's reason is kept.
+func (f *family) runWindowWith(segs []seg, core func(out cells, valid bool) string) famResult {
 	r := famResult{seq: segs[0].w.Seq, coverage: math.Inf(1)}
 	reason := ""
 	for _, s := range segs {
@@ -125,9 +132,10 @@ func (f *family) runWindowWith(segs []seg, core func(out cells) string) famResul
 	}
 	if reason != "" {
 		r.reason = reason
+		core(cells{r.v, r.t}, false)
 		return r
 	}
-	r.reason = core(cells{r.v, r.t})
+	r.reason = core(cells{r.v, r.t}, true)
 	return r
 }
 

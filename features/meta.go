@@ -25,6 +25,7 @@ type Meta struct {
 	Library string      `json:"library"`
 	Version string      `json:"version"` // features.Version
 	Config  Config      `json:"config"`
+	Anchor  string      `json:"anchor"` // config.anchor in words: "epoch" or "start"
 	Records []string    `json:"records"`
 	Inputs  []InputFile `json:"inputs"`
 	Columns []Column    `json:"columns"`
@@ -56,6 +57,7 @@ func SidecarPath(table string) string {
 func WriteSidecar(table string, m Meta) error {
 	m.Library = "tidalbeat"
 	m.Version = Version
+	m.Anchor = m.Config.Anchor.String()
 	b, err := json.MarshalIndent(m, "", "  ")
 	if err != nil {
 		return fmt.Errorf("features: sidecar: %w", err)

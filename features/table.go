@@ -54,9 +54,12 @@ type Row struct {
 
 // Table is the feature table of one recording.
 type Table struct {
-	Record  string   // record name, written in the record column
-	Columns []Column // schema, without the fixed record/time columns
-	Rows    []Row    // in time order, one per grid step
+	Record string // record name, written in the record column
+	// StartKnown is false when the recording gave no start time: row times
+	// are then elapsed time counted from the Unix epoch.
+	StartKnown bool
+	Columns    []Column // schema, without the fixed record/time columns
+	Rows       []Row    // in time order, one per grid step
 }
 
 // Col returns the index of the named column, or -1.

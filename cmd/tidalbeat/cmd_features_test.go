@@ -1,0 +1,240 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/parquet-go/parquet-go"
+
+	"github.com/tidalbeat/tidalbeat/features/recording"
+	"github.com/tidalbeat/tidalbeat/internal/refdata"
+	"github.com/tidalbeat/tidalbeat/internal/sim"
+)
+
+// writeSimEDF writes an EDF+ file with a simulated chest accelerometer
+// (internal/sim.AccelSimulate) and a label annotation, and returns the
+// simulator's step times.
+func writeSimEDF(t *testing.T, path string, start time.Time, seed uint64) []float64 {
+	t.Helper()
+	a, err := sim.AccelSimulate([]sim.AccelSegment{
+		{Activity: sim.AccelSitting, DurationS: 60},
+		{Activity: sim.AccelWalking, DurationS: 120, CadenceSPM: 110},
+	}, sim.AccelConfig{Seed: seed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := &recording.Recording{Name: "x", Start: start, StartKnown: true,
+		Annotations: []recording.Annotation{{Time: 60, Duration: 120, Text: "walk", Sample: -1}}}
+	for i, x := range [][]float64{a.X, a.Y, a.Z} {
+		rec.Channels = append(rec.Channels, recording.Channel{Name: []string{"acc_x", "acc_y", "acc_z"}[i], Unit: "g", RateHz: a.RateHz, Samples: x})
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if err := recording.WriteEDF(f, rec, recording.EDFWriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	return a.Steps
+}
+
+func readFeatCSV(t *testing.T, path string) ([]string, [][]string) {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return recs[0], recs[1:]
+}
+
+func featCol(head []string, name string) int {
+	for i, h := range head {
+		if h == name {
+			return i
+		}
+	}
+	return -1
+}
+
+// TestFeaturesBeatsRecord100 runs `tidalbeat features 100 -beats atr` on
+// MIT-BIH record 100 with 5-min windows every 5 min, so the windows tile the
+// record and every beat annotation is counted once.
+func TestFeaturesBeatsRecord100(t *testing.T) {
+	hea := refdata.Shared(t, "physionet/mitdb/100.hea")
+	out := filepath.Join(t.TempDir(), "r100.csv")
+	var so, se bytes.Buffer
+	if code := run([]string{"features", strings.TrimSuffix(hea, ".hea"), "-beats", "atr", "-step", "5m", "-o", out}, &so, &se); code != 0 {
+		t.Fatalf("exit %d: %s", code, se.String())
+	}
+	head, rows := readFeatCSV(t, out)
+	nb, nn, mean := featCol(head, "hrv_n_beats"), featCol(head, "hrv_n_nn"), featCol(head, "mean_nn_ms")
+	if nb < 0 || nn < 0 || mean < 0 || featCol(head, "rmssd_ms") < 0 {
+		t.Fatalf("columns %v", head)
+	}
+	beats, sumNN, sumMs := 0, 0.0, 0.0
+	for _, r := range rows {
+		b, _ := strconv.Atoi(r[nb])
+		beats += b
+		if r[mean] != "" {
+			n, _ := strconv.ParseFloat(r[nn], 64)
+			m, _ := strconv.ParseFloat(r[mean], 64)
+			sumNN += n
+			sumMs += n * m
+		}
+	}
+	// MIT-BIH Arrhythmia Database directory, record 100: 2273 beats
+	// (2239 N, 33 A, 1 V).
+	if beats != 2273 {
+		t.Errorf("%d beats over the tiling windows, want 2273", beats)
+	}
+	// Mean NN: 650000 samples at 360 Hz (1805.6 s) over 2272 intervals
+	// gives 794.7 ms (derived from the directory figures; the N-N pairs
+	// exclude the intervals around the 34 ectopic beats, whose premature
+	// and compensatory intervals roughly cancel).
+	if got := sumMs / sumNN; math.Abs(got-794.7) > 0.01*794.7 {
+		t.Errorf("mean NN %.1f ms, want 794.7 within 1 %%", got)
+	}
+	// At most 2239 N beats give at most 2238 N-N intervals, minus those
+	// broken by the 34 ectopic beats and the window edges.
+	if sumNN > 2238 || sumNN < 2238-2*34-7 {
+		t.Errorf("%v NN intervals", sumNN)
+	}
+	var meta map[string]any
+	data, err := os.ReadFile(out + ".meta.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(data, &meta); err != nil {
+		t.Fatal(err)
+	}
+	if len(meta["inputs"].([]any)) != 3 {
+		t.Errorf("sidecar inputs %v", meta["inputs"])
+	}
+}
+
+// TestFeaturesCohortPartitioned runs two simulated records and one broken
+// file through the worker pool into a partitioned dataset and reads it back.
+func TestFeaturesCohortPartitioned(t *testing.T) {
+	dir := t.TempDir()
+	in := filepath.Join(dir, "in")
+	os.Mkdir(in, 0o755)
+	start := time.Date(2026, 6, 2, 9, 0, 0, 0, time.UTC)
+	stepsA := writeSimEDF(t, filepath.Join(in, "runner_a.edf"), start, 1)
+	writeSimEDF(t, filepath.Join(in, "runner_b.edf"), start.Add(time.Hour), 2)
+	os.WriteFile(filepath.Join(in, "broken.edf"), []byte("not an EDF file"), 0o644)
+	ds := filepath.Join(dir, "ds")
+	var so, se bytes.Buffer
+	code := run([]string{"features", in, "-partition", "-o", ds, "-j", "2"}, &so, &se)
+	if code != 1 {
+		t.Fatalf("exit %d with a broken record, want 1; stderr %s", code, se.String())
+	}
+	if !strings.Contains(se.String(), "broken.edf") || !strings.Contains(se.String(), "1 of 3 records failed") {
+		t.Errorf("stderr %q", se.String())
+	}
+	type row struct {
+		TimeUTC time.Time `parquet:"time_utc,timestamp(microsecond)"`
+		Steps   *int64    `parquet:"steps_count,optional"`
+		Walk    *float64  `parquet:"label_walk_overlap_frac,optional"`
+		Reason  *string   `parquet:"hrv_reason,optional"`
+	}
+	rows, err := parquet.ReadFile[row](filepath.Join(ds, "record=runner_a", "part-0.parquet"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 6 {
+		t.Fatalf("%d rows for 180 s on the 30-s grid, want 6", len(rows))
+	}
+	total := int64(0)
+	for i, r := range rows {
+		if want := start.Add(time.Duration(i+1) * 30 * time.Second); !r.TimeUTC.Equal(want) {
+			t.Errorf("row %d time %v, want %v", i, r.TimeUTC, want)
+		}
+		if r.Steps != nil {
+			total += *r.Steps
+		}
+		// The walk label covers 60-180 s: rows ending at 90 s and later are
+		// inside it, rows up to 60 s outside (EDF+ annotation written above).
+		wantWalk := 0.0
+		if i >= 2 {
+			wantWalk = 1
+		}
+		if r.Walk == nil || math.Abs(*r.Walk-wantWalk) > 1e-3 {
+			t.Errorf("row %d walk overlap %v, want %v", i, r.Walk, wantWalk)
+		}
+		if r.Reason == nil || *r.Reason != "no ECG channel" {
+			t.Errorf("row %d hrv_reason %v", i, r.Reason)
+		}
+	}
+	// Steps against the simulator's step impacts (internal/sim ground truth).
+	if d := math.Abs(float64(total) - float64(len(stepsA))); d > 0.05*float64(len(stepsA)) {
+		t.Errorf("%d steps, simulator %d", total, len(stepsA))
+	}
+	if _, err := os.Stat(filepath.Join(ds, "record=runner_b", "part-0.parquet")); err != nil {
+		t.Error(err)
+	}
+	if _, err := os.Stat(ds + ".meta.json"); err != nil {
+		t.Error(err)
+	}
+}
+
+func TestFeaturesOneTableAndErrors(t *testing.T) {
+	dir := t.TempDir()
+	a, b := filepath.Join(dir, "a.edf"), filepath.Join(dir, "b.edf")
+	writeSimEDF(t, a, time.Date(2026, 6, 2, 9, 0, 0, 0, time.UTC), 3)
+	writeSimEDF(t, b, time.Date(2026, 6, 2, 9, 0, 0, 0, time.UTC), 4)
+	out := filepath.Join(dir, "t.jsonl")
+	var so, se bytes.Buffer
+	if code := run([]string{"features", a, b, "-o", out, "-families", "activity", "-j", "1"}, &so, &se); code != 0 {
+		t.Fatalf("exit %d: %s", code, se.String())
+	}
+	data, _ := os.ReadFile(out)
+	lines := strings.Split(strings.TrimSpace(string(data)), "\n")
+	if len(lines) != 12 {
+		t.Fatalf("%d lines, want 12 (6 rows per record)", len(lines))
+	}
+	var first, last map[string]any
+	json.Unmarshal([]byte(lines[0]), &first)
+	json.Unmarshal([]byte(lines[11]), &last)
+	if first["record"] != "a" || last["record"] != "b" {
+		t.Errorf("record column %v, %v", first["record"], last["record"])
+	}
+	if _, ok := first["hrv_reason"]; ok {
+		t.Errorf("-families activity still wrote HRV columns")
+	}
+	for _, args := range [][]string{
+		{"features"},
+		{"features", a, "-o", "x.txt"},
+		{"features", a, "-partition"},
+		{"features", a, "-j", "0"},
+		{"features", a, "-anchor", "noon"},
+		{"features", a, "-role", "acc_x"},
+	} {
+		so.Reset()
+		se.Reset()
+		if code := run(args, &so, &se); code != 2 {
+			t.Errorf("%v: exit %d, want 2 (usage); stderr %s", args, code, se.String())
+		}
+	}
+	if code := run([]string{"features", filepath.Join(dir, "missing.edf")}, &so, &se); code != 1 {
+		t.Errorf("missing record: exit %d", code)
+	}
+	// CSV on stdout without -o.
+	so.Reset()
+	if code := run([]string{"features", a, "-families", "activity"}, &so, &se); code != 0 || !strings.HasPrefix(so.String(), "record,time_utc,t_s,seq,") {
+		t.Errorf("stdout table: exit %d, %q", code, so.String()[:min(60, so.Len())])
+	}
+}
