@@ -194,6 +194,13 @@ func (p *processor) step(x, y, z float64) {
 	}
 	b := [3]float64{p.ms[0] * d[p.mi[0]], p.ms[1] * d[p.mi[1]], p.ms[2] * d[p.mi[2]]}
 	vm := math.Sqrt(b[0]*b[0] + b[1]*b[1] + b[2]*b[2])
+	if !(vm <= maxPlausibleG) {
+		// Not a physical acceleration (or an overflow): flag it rather than
+		// let it poison every filter state that follows.
+		p.out = append(p.out, Sample{VM: float32(math.NaN()), Up: float32(math.NaN()), Left: float32(math.NaN()), Forward: float32(math.NaN()), Flags: FlagInvalid})
+		p.fresh = true
+		return
+	}
 	if p.fresh {
 		// Start (or restart after a gap) every filter in its steady state
 		// for this sample, so a constant input produces no transient.
@@ -351,6 +358,11 @@ func (p *processor) posture(i int, b [3]float64) {
 	p.out[i-p.outBase].Flags |= FlagPostureChange
 	p.ref, p.cand, p.stableSince = g, g, i
 }
+
+// maxPlausibleG is the largest vector magnitude taken as a measurement;
+// anything above it (10,000 g, beyond any body-worn sensor) is flagged
+// invalid.
+const maxPlausibleG = 1e4
 
 // postureRateHz is the rate at which gravity and posture are followed.
 const postureRateHz = 10

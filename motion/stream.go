@@ -21,7 +21,6 @@ type Stream struct {
 	pushed int // samples handed to the window stream
 	ready  []Epoch
 	steps  []float64
-	nch    int // posture changes already handed out
 	err    error
 }
 
@@ -137,7 +136,7 @@ func (s *Stream) Steps() []float64 {
 
 // PostureChanges returns the posture changes confirmed since the last call.
 func (s *Stream) PostureChanges() []PostureChange {
-	r := s.p.changes[s.nch:]
-	s.nch = len(s.p.changes)
-	return append([]PostureChange(nil), r...)
+	r := append([]PostureChange(nil), s.p.changes...)
+	s.p.changes = s.p.changes[:0]
+	return r
 }
