@@ -1,11 +1,13 @@
 package main
 
 import (
+	"bufio"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
 	"sort"
+	"strings"
 	"text/tabwriter"
 
 	"github.com/tidalbeat/tidalbeat/features"
@@ -45,20 +47,33 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	rec := demoRecording(day)
+	// The recording goes to disk as EDF+ and the pipeline reads it back from
+	// there, as "tidalbeat features" or "tidalbeat report" would.
+	edfPath := filepath.Join(*dir, demoName+".edf")
+	if err := writeDemoEDF(edfPath, demoRecording(day)); err != nil {
+		return err
+	}
+	rec, err := recording.Open(edfPath)
+	if err != nil {
+		return err
+	}
 	a, err := report.Analyze(rec, report.Options{})
 	if err != nil {
 		return err
 	}
 	a.Input.Title = "Tidalbeat demo: a trail runner's training day (simulated)"
-	var paths []string
+	paths := []string{edfPath}
+	inputs, err := features.HashFiles(edfPath)
+	if err != nil {
+		return err
+	}
 	for _, name := range []string{"features.csv", "features.parquet"} {
 		p := filepath.Join(*dir, name)
 		cols, err := features.WriteFile(p, features.WriteOptions{}, a.Table)
 		if err != nil {
 			return err
 		}
-		meta := features.Meta{Records: []string{rec.Name}, Columns: cols,
+		meta := features.Meta{Records: []string{rec.Name}, Columns: cols, Inputs: inputs,
 			Notes: []string{fmt.Sprintf("built-in simulated recording (internal/sim DaySimulate, seed %d)", *seed)}}
 		if err := features.WriteSidecar(p, meta); err != nil {
 			return err
@@ -104,6 +119,25 @@ func demoRecording(d *sim.DayRecording) *recording.Recording {
 	}
 	sort.SliceStable(rec.Annotations, func(i, j int) bool { return rec.Annotations[i].Time < rec.Annotations[j].Time })
 	return rec
+}
+
+// writeDemoEDF writes rec as EDF+ to path.
+func writeDemoEDF(path string, rec *recording.Recording) (err error) {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if cerr := f.Close(); err == nil {
+			err = cerr
+		}
+	}()
+	bw := bufio.NewWriter(f)
+	opt := recording.EDFWriteOptions{Recording: "Startdate " + strings.ToUpper(rec.Start.Format("02-Jan-2006")) + " X tidalbeat-demo simulated-chest-patch"}
+	if err := recording.WriteEDF(bw, rec, opt); err != nil {
+		return err
+	}
+	return bw.Flush()
 }
 
 // printDemoSummary prints what was found next to what was simulated.

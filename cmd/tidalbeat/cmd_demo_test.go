@@ -13,6 +13,7 @@ import (
 	"github.com/parquet-go/parquet-go"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
+	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/features/report"
 	"github.com/tidalbeat/tidalbeat/internal/sim"
 )
@@ -31,7 +32,7 @@ func TestDemoEndToEnd(t *testing.T) {
 		t.Fatalf("demo exit %d: %s", code, se.String())
 	}
 	out := so.String()
-	for _, want := range []string{"beats:", "steps:", "breaths:", "not a medical device", filepath.Join(dir, "report.html")} {
+	for _, want := range []string{"beats:", "steps:", "breaths:", "not a medical device", filepath.Join(dir, "report.html"), filepath.Join(dir, demoName+".edf")} {
 		if !strings.Contains(out, want) {
 			t.Errorf("summary lacks %q:\n%s", want, out)
 		}
@@ -49,12 +50,12 @@ func TestDemoEndToEnd(t *testing.T) {
 	// The feature table: 240 rows (two hours at the default 30 s step, row
 	// times on whole multiples of 30 s since the Unix epoch, and the demo
 	// starts at 12:00:00 UTC), the same in CSV and Parquet.
-	rows := readCSV(t, filepath.Join(dir, "features.csv"))
+	rows := demoReadCSV(t, filepath.Join(dir, "features.csv"))
 	const wantRows = 240
 	if len(rows) != wantRows {
 		t.Errorf("features.csv: %d rows, want %d", len(rows), wantRows)
 	}
-	if n := parquetRows(t, filepath.Join(dir, "features.parquet")); n != wantRows {
+	if n := demoParquetRows(t, filepath.Join(dir, "features.parquet")); n != wantRows {
 		t.Errorf("features.parquet: %d rows, want %d", n, wantRows)
 	}
 	for _, p := range []string{"features.csv.meta.json", "features.parquet.meta.json"} {
@@ -67,12 +68,43 @@ func TestDemoEndToEnd(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rec := demoRecording(day)
+	tr := day.Truth
+
+	// The EDF+ file reads back with the recording package: six channels
+	// with their roles, rates and lengths, NaN exactly over the lead-off
+	// gap (to the sample), and every segment and apnea as an annotation.
+	rec, err := recording.Open(filepath.Join(dir, demoName+".edf"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := demoRecording(day)
+	if len(rec.Channels) != len(want.Channels) {
+		t.Fatalf("EDF: %d channels, want %d", len(rec.Channels), len(want.Channels))
+	}
+	for i, c := range rec.Channels {
+		w := want.Channels[i]
+		if c.Role != w.Role || c.RateHz != w.RateHz || len(c.Samples) != len(w.Samples) {
+			t.Errorf("EDF channel %d: %s %v %g Hz %d samples, want %s %v %g Hz %d", i, c.Name, c.Role, c.RateHz, len(c.Samples), w.Name, w.Role, w.RateHz, len(w.Samples))
+		}
+		for k := range min(len(c.Samples), len(w.Samples)) {
+			if math.IsNaN(c.Samples[k]) != math.IsNaN(w.Samples[k]) {
+				t.Fatalf("EDF channel %s sample %d: NaN %v, written NaN %v", c.Name, k, math.IsNaN(c.Samples[k]), math.IsNaN(w.Samples[k]))
+			}
+		}
+	}
+	var texts []string
+	for _, an := range rec.Annotations {
+		if an.Duration > 0 {
+			texts = append(texts, an.Text)
+		}
+	}
+	if len(texts) != len(tr.Segments)+len(tr.Apneas) {
+		t.Errorf("EDF annotations with a duration: %q, want the %d segments and %d apneas", texts, len(tr.Segments), len(tr.Apneas))
+	}
 	a, err := report.Analyze(rec, report.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	tr := day.Truth
 
 	// Beats: every visible simulated R-peak matched within 150 ms (the
 	// ANSI/AAMI EC57 matching window); sensitivity and positive
@@ -129,7 +161,9 @@ func TestDemoEndToEnd(t *testing.T) {
 
 	// Table values against the truth: the label columns carry the schedule
 	// (a row in the middle of the nap lies wholly in "nap", none of it in
-	// "rest").
+	// "rest"), and each segment's last HRV window (5 min, Task Force 1996,
+	// ending at the segment end) reports the simulated mean heart rate
+	// over the same 5 min within 2 %.
 	byT := map[float64]map[string]string{}
 	for _, r := range rows {
 		ts, err := strconv.ParseFloat(r["t_s"], 64)
@@ -142,6 +176,28 @@ func TestDemoEndToEnd(t *testing.T) {
 	if mid == nil || mid["label_nap_overlap_frac"] != "1" || mid["label_rest_overlap_frac"] != "0" {
 		t.Errorf("row at 5400 s: nap overlap %q, rest overlap %q; want 1 and 0", mid["label_nap_overlap_frac"], mid["label_rest_overlap_frac"])
 	}
+	for _, s := range tr.Segments {
+		if s.Label == "intervals" {
+			// Known limitation, not hidden: at 180+ beats/min with an
+			// RMSSD of a few ms the NN cleaning (ecg.CleanRR defaults)
+			// flags about 10 % of the intervals, so the HRV family
+			// leaves the intervals' windows empty (corrected fraction
+			// above its 0.1 maximum). Their heart rate is checked from
+			// the cleaned series above instead.
+			continue
+		}
+		r := byT[s.EndS]
+		if r == nil {
+			t.Errorf("no row at the end of %s (%v s)", s.Label, s.EndS)
+			continue
+		}
+		got, err := strconv.ParseFloat(r["mean_hr_bpm"], 64)
+		want := tr.MeanHR(s.EndS-300, s.EndS)
+		if err != nil || math.Abs(got-want) > 0.02*want {
+			t.Errorf("%s: table mean_hr_bpm %q at %v s, simulated %.2f over the same 5 min (tolerance 2 %%)", s.Label, r["mean_hr_bpm"], s.EndS, want)
+		}
+	}
+
 	// Breathing rate per segment from the detected breaths: within 3 % of
 	// the simulated rate (simulator truth; the nap at 10/min and the hard
 	// repeats near 48/min bracket what the detector must follow), and the
@@ -163,8 +219,8 @@ func TestDemoEndToEnd(t *testing.T) {
 	}
 }
 
-// readCSV reads a table with a header into one map per row.
-func readCSV(t *testing.T, path string) []map[string]string {
+// demoReadCSV reads a table with a header into one map per row.
+func demoReadCSV(t *testing.T, path string) []map[string]string {
 	t.Helper()
 	f, err := os.Open(path)
 	if err != nil {
@@ -189,7 +245,7 @@ func readCSV(t *testing.T, path string) []map[string]string {
 	return out
 }
 
-func parquetRows(t *testing.T, path string) int64 {
+func demoParquetRows(t *testing.T, path string) int64 {
 	t.Helper()
 	f, err := os.Open(path)
 	if err != nil {

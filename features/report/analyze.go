@@ -3,9 +3,11 @@ package report
 import (
 	"fmt"
 	"math"
+	"sort"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
 	"github.com/tidalbeat/tidalbeat/features"
+	"github.com/tidalbeat/tidalbeat/features/hrv"
 	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/resp"
 	"github.com/tidalbeat/tidalbeat/window"
@@ -37,6 +39,8 @@ type Analysis struct {
 	RPeaksS []float64
 	// ECGGaps are the spans of unusable ECG.
 	ECGGaps []window.Interval
+	// NN is the cleaned NN series of the whole recording.
+	NN ecg.NN
 	// Breaths are the detected breaths (resp.Detect on the QDC-weighted
 	// band sum); BreathCalibration the weights used.
 	Breaths           []resp.Breath
@@ -129,27 +133,82 @@ func (a *Analysis) heart(rec *recording.Recording) error {
 	for _, g := range res.Gaps {
 		in.Beats.Gaps = append(in.Beats.Gaps, Span{Start: g.Start, End: g.End, Label: "no ECG"})
 	}
-	// Intervals that span a gap are not intervals between consecutive beats.
-	for i := 1; i < len(a.RPeaksS); i++ {
-		t0, t1 := a.RPeaksS[i-1], a.RPeaksS[i]
-		if spansGap(t0, t1, res.Gaps) {
-			continue
-		}
-		in.Beats.TimeS = append(in.Beats.TimeS, t1)
-		in.Beats.RRms = append(in.Beats.RRms, 1000*(t1-t0))
-		in.Beats.Corrected = append(in.Beats.Corrected, false)
+	// NN series: the whole record cleaned once for the beat-level figures
+	// (the table's HRV family cleans each window on its own).
+	nn, err := ecg.CleanRR(a.RPeaksS, res.Gaps, ecg.NNOptions{})
+	if err != nil {
+		return err
 	}
+	a.NN = nn
+	in.Beats.TimeS, in.Beats.RRms = nn.TimeS, nn.Ms
+	in.Beats.Corrected = make([]bool, len(nn.Fix))
+	for i, f := range nn.Fix {
+		in.Beats.Corrected[i] = f != ecg.FixNone
+	}
+	c := nn.Counts
+	in.Facts = append(in.Facts, Fact{Name: "NN cleaning", Value: fmt.Sprintf("%d intervals; %d ectopic beats, %d missed, %d extra, %d long, %d short, %d out of range (Lipponen and Tarvainen 2019)",
+		c.Intervals, c.Ectopic, c.Missed, c.Extra, c.Long, c.Short, c.OutOfRange)})
+	a.spectrum()
 	in.Facts = append(in.Facts, Fact{Name: "R-peaks detected", Value: fmt.Sprintf("%d (Pan-Tompkins)", len(a.RPeaksS))})
 	return nil
 }
 
-func spansGap(t0, t1 float64, gaps []window.Interval) bool {
-	for _, g := range gaps {
-		if g.Start < t1 && g.End > t0 {
-			return true
+// psdWindowS is the short-term HRV recording length: 5 min (Task Force of
+// ESC/NASPE 1996).
+const psdWindowS = 300
+
+// spectrum estimates the HRV spectrum (hrv.Spectrum, Welch by default) over
+// the 5-min stretch with the lowest mean heart rate among those whose
+// intervals are at least 95 % uncorrected and span at least 95 % of the
+// window: the most resting, cleanest short-term recording, where the
+// Task Force bands are read as usual. Candidate windows start every 30 s.
+func (a *Analysis) spectrum() {
+	nn := a.NN
+	if len(nn.TimeS) < 4 {
+		return
+	}
+	bestLo, bestHi, bestHR := -1, -1, math.Inf(1)
+	end := nn.TimeS[len(nn.TimeS)-1]
+	lo := 0
+	for t0 := nn.TimeS[0]; t0+psdWindowS <= end; t0 += 30 {
+		for lo < len(nn.TimeS) && nn.TimeS[lo] < t0 {
+			lo++
+		}
+		hi := sort.SearchFloat64s(nn.TimeS, t0+psdWindowS)
+		if hi-lo < 4 {
+			continue
+		}
+		var sum float64
+		for _, v := range nn.Ms[lo:hi] {
+			sum += v
+		}
+		if sum < 0.95*psdWindowS*1000 || nn.CorrectedFraction(lo, hi) > 0.05 {
+			continue
+		}
+		if hr := 60000 / (sum / float64(hi-lo)); hr < bestHR {
+			bestLo, bestHi, bestHR = lo, hi, hr
 		}
 	}
-	return false
+	if bestLo < 0 {
+		return
+	}
+	psd, err := hrv.Spectrum(nn.Ms[bestLo:bestHi], nn.TimeS[bestLo:bestHi], hrv.SpectrumOptions{})
+	if err != nil {
+		return
+	}
+	b := hrv.TaskForceBands
+	sp := &a.Input.Spectrum
+	sp.FreqHz, sp.PowerMs2 = psd.FreqHz, psd.Power
+	sp.Bands = []Span{{Start: b.VLF.Lo, End: b.VLF.Hi, Label: "VLF"}, {Start: b.LF.Lo, End: b.LF.Hi, Label: "LF"}, {Start: b.HF.Lo, End: b.HF.Hi, Label: "HF"}}
+	sp.Method = fmt.Sprintf("%s periodogram (hrv.Spectrum defaults), mean HR %.1f beats/min", psd.Estimator, bestHR)
+	sp.WindowS = [2]float64{nn.TimeS[bestLo], nn.TimeS[bestHi-1]}
+	lf, hf := psd.BandPower(b.LF), psd.BandPower(b.HF)
+	sp.BandPower = []Fact{
+		{Name: "VLF", Value: fmt.Sprintf("%.0f ms²", psd.BandPower(b.VLF))},
+		{Name: "LF", Value: fmt.Sprintf("%.0f ms²", lf)},
+		{Name: "HF", Value: fmt.Sprintf("%.0f ms²", hf)},
+		{Name: "LF/HF", Value: fmt.Sprintf("%.2f", lf/hf)},
+	}
 }
 
 // qdcSpanS is the stretch of natural breathing the relative calibration is
