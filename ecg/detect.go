@@ -310,6 +310,9 @@ type core struct {
 	lastSlp  float64
 	sbRef    int
 	rr1, rr2 rrRing
+	sbWait   int // missedLimit() + refN + 2, updated with the RR averages
+	invIntN  float64
+	dlPos    int // delay-line slot of the next incoming sample
 	polVote  float64
 	polSet   bool
 
@@ -353,6 +356,7 @@ func (c *core) init(fs float64, o Options) error {
 	c.dlBad = make([]bool, c.flatN+1)
 	c.clipSet = o.ClipHighmV > o.ClipLowmV
 	c.intN = max(1, int(math.Round(o.IntegrationS*fs)))
+	c.invIntN = 1 / float64(c.intN)
 	c.refN = max(1, int(math.Round(o.RefractoryS*fs)))
 	c.twN = int(math.Round(o.TWaveS * fs))
 	c.learnN = max(1, int(math.Round(o.LearningS*fs)))
@@ -398,12 +402,19 @@ func (c *core) push(x float64) {
 	if c.runLen >= c.flatN {
 		bad = true
 	}
-	if i >= c.flatN {
-		j := i - c.flatN
-		c.step(c.dl[j%L], c.dlBad[j%L])
+	// Slot of sample i is i % L, kept as a counter; sample i - flatN sits in
+	// the next slot (L = flatN + 1).
+	w := c.dlPos
+	r := w + 1
+	if r == L {
+		r = 0
 	}
-	c.dl[i%L] = x
-	c.dlBad[i%L] = bad
+	if i >= c.flatN {
+		c.step(c.dl[r], c.dlBad[r])
+	}
+	c.dl[w] = x
+	c.dlBad[w] = bad
+	c.dlPos = r
 }
 
 func (c *core) flush() {
@@ -462,14 +473,18 @@ func (c *core) step(x float64, bad bool) {
 		c.sum = 0
 	}
 	c.sbuf[n&m] = sv
-	mv := c.sum / float64(c.intN)
+	mv := c.sum * c.invIntN
 	c.mbuf[n&m] = mv
 
 	if !c.learned {
-		c.lmaxM = math.Max(c.lmaxM, mv)
+		if mv > c.lmaxM {
+			c.lmaxM = mv
+		}
 		c.lsumM += mv
 		af := math.Abs(fv)
-		c.lmaxF = math.Max(c.lmaxF, af)
+		if af > c.lmaxF {
+			c.lmaxF = af
+		}
 		c.lsumF += af
 		if n-c.seg+1 >= c.learnN {
 			c.finishLearning()
@@ -495,7 +510,7 @@ func (c *core) step(x float64, bad bool) {
 	// Search-back: nothing found within 166 % of RR average 2.
 	// It waits a refractory period more, so every candidate up to the limit
 	// has been finalised and pooled.
-	if c.learned && n-c.sbRef > c.missedLimit()+c.refN+2 {
+	if c.learned && n-c.sbRef > c.sbWait {
 		c.searchBack(n)
 	}
 }
@@ -516,6 +531,7 @@ func (c *core) startSegment(n int, x float64) {
 	c.pending = false
 	c.haveLast = false
 	c.rr1, c.rr2 = rrRing{}, rrRing{}
+	c.sbWait = c.missedLimit() + c.refN + 2
 }
 
 // finishLearning initialises the thresholds from the learning phase: signal
@@ -760,6 +776,7 @@ func (c *core) addRR(rr float64) {
 	c.rr1.add(rr)
 	if c.rr2.n == 0 {
 		c.rr2.add(rr)
+		c.sbWait = c.missedLimit() + c.refN + 2
 		return
 	}
 	avg2 := c.rr2.mean()
@@ -778,4 +795,5 @@ func (c *core) addRR(rr float64) {
 			c.rr2 = c.rr1
 		}
 	}
+	c.sbWait = c.missedLimit() + c.refN + 2
 }
