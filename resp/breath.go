@@ -190,7 +190,8 @@ type Options struct {
 	// when zero (common practice: bands more out of phase than in phase).
 	ParadoxDeg float64
 	// MotionFrac flags motion when the RMS of the band sum above
-	// 2*LowpassHz exceeds this fraction of the breath amplitude: 0.1 when
+	// LowpassHz (order-2 Butterworth high-pass of the raw sum) exceeds this
+	// fraction of the breath amplitude: 0.1 when
 	// zero (our choice).
 	MotionFrac float64
 	// MotionAmpFactor flags motion for a breath larger than this multiple of

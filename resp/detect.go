@@ -177,7 +177,7 @@ func newCore(opt Options) (*core, error) {
 	if err != nil {
 		return nil, fmt.Errorf("resp: high-pass: %w", err)
 	}
-	hf, err := dsp.ButterHighpass(2, math.Min(2*o.LowpassHz, 0.4*o.RateHz), o.RateHz)
+	hf, err := dsp.ButterHighpass(2, math.Min(o.LowpassHz, 0.4*o.RateHz), o.RateHz)
 	if err != nil {
 		return nil, fmt.Errorf("resp: motion high-pass: %w", err)
 	}
