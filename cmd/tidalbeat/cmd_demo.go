@@ -14,6 +14,7 @@ import (
 	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/features/report"
 	"github.com/tidalbeat/tidalbeat/internal/sim"
+	"github.com/tidalbeat/tidalbeat/resp"
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
@@ -174,7 +175,20 @@ func printDemoSummary(w io.Writer, seed uint64, d *sim.DayRecording, a *report.A
 		}
 	}
 	fmt.Fprintf(w, "breaths: %d detected, %d simulated\n", len(a.Breaths), nb)
-	fmt.Fprintf(w, "apneas: %d simulated (%.0f s in all); event detection not in this build\n", len(tr.Apneas), totalLen(tr.Apneas))
+	asApnea, asAny := 0, 0
+	for _, ap := range tr.Apneas {
+		if e, ok := overlapping(a.Events, ap); ok {
+			asAny++
+			if e.Kind == resp.EventApnea {
+				asApnea++
+			}
+		}
+	}
+	fmt.Fprintf(w, "apnea candidates: %d found (%d apnea, %d hypopnea); of %d simulated obstructive apneas %d found, %d of them as apneas\n",
+		len(a.Events), countKind(a.Events, resp.EventApnea), countKind(a.Events, resp.EventHypopnea), len(tr.Apneas), asAny, asApnea)
+	for _, e := range a.Events {
+		fmt.Fprintf(w, "  %s %s %.0f-%.0f s (%.0f s, drop %.0f %%)\n", e.Class, e.Kind, e.Start, e.End, e.DurationS, e.DropPct)
+	}
 	for _, m := range a.Missing {
 		fmt.Fprintf(w, "not analysed: %s\n", m)
 	}
@@ -182,6 +196,26 @@ func printDemoSummary(w io.Writer, seed uint64, d *sim.DayRecording, a *report.A
 		fmt.Fprintf(w, "wrote %s\n", p)
 	}
 	fmt.Fprintln(w, "Research software, not a medical device.")
+}
+
+// overlapping returns the first candidate event overlapping the interval.
+func overlapping(ev []resp.Event, iv sim.DayInterval) (resp.Event, bool) {
+	for _, e := range ev {
+		if e.Start < iv.EndS && e.End > iv.StartS {
+			return e, true
+		}
+	}
+	return resp.Event{}, false
+}
+
+func countKind(ev []resp.Event, k resp.EventKind) int {
+	n := 0
+	for _, e := range ev {
+		if e.Kind == k {
+			n++
+		}
+	}
+	return n
 }
 
 func totalLen(iv []sim.DayInterval) float64 {

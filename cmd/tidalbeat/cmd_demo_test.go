@@ -217,6 +217,35 @@ func TestDemoEndToEnd(t *testing.T) {
 	if got := len(a.Breaths); math.Abs(float64(got-nb)) > 0.01*float64(nb) {
 		t.Errorf("%d breaths detected, %d simulated (tolerance 1 %%)", got, nb)
 	}
+	// Apnea timing: every simulated obstructive apnea (15-28 s in the nap)
+	// is overlapped by a candidate event whose start and end are each
+	// within 6 s (one breath at the nap's 10 breaths/min) of the truth, and
+	// at most one candidate lies outside every simulated apnea (the AASM
+	// amplitude and duration rules of Berry et al. 2012 are applied by
+	// package resp; the scenario has no other events).
+	for _, ap := range tr.Apneas {
+		e, ok := overlapping(a.Events, ap)
+		if !ok {
+			t.Errorf("simulated apnea %.0f-%.0f s: no candidate event", ap.StartS, ap.EndS)
+			continue
+		}
+		if math.Abs(e.Start-ap.StartS) > 6 || math.Abs(e.End-ap.EndS) > 6 {
+			t.Errorf("simulated apnea %.0f-%.0f s: candidate %.1f-%.1f s (tolerance 6 s)", ap.StartS, ap.EndS, e.Start, e.End)
+		}
+	}
+	nFalse := 0
+	for _, e := range a.Events {
+		hit := false
+		for _, ap := range tr.Apneas {
+			hit = hit || (e.Start < ap.EndS && e.End > ap.StartS)
+		}
+		if !hit {
+			nFalse++
+		}
+	}
+	if nFalse > 1 {
+		t.Errorf("%d candidate events outside the simulated apneas, want at most 1", nFalse)
+	}
 }
 
 // demoReadCSV reads a table with a header into one map per row.

@@ -45,6 +45,9 @@ type Analysis struct {
 	// band sum); BreathCalibration the weights used.
 	Breaths           []resp.Breath
 	BreathCalibration resp.Calibration
+	// Events are the candidate apneas and hypopneas (resp.DetectEvents,
+	// AASM amplitude and duration criteria on the band sum).
+	Events []resp.Event
 	// Table is the feature table of the recording (features.Extract), the
 	// source of every per-window figure.
 	Table *features.Table
@@ -243,6 +246,15 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	}
 	a.Breaths, a.BreathCalibration = res.Breaths, cal
 	in := a.Input
+	if ev, err := resp.DetectEvents(res, resp.EventOptions{}); err != nil {
+		a.Missing = append(a.Missing, "respiratory events: "+err.Error())
+	} else {
+		a.Events = ev
+		for _, e := range ev {
+			in.Breath.Events = append(in.Breath.Events, Span{Start: e.Start, End: e.End, Label: e.Class.String() + " " + e.Kind.String()})
+		}
+		in.Facts = append(in.Facts, Fact{Name: "candidate events", Value: fmt.Sprintf("%d apnea/hypopnea candidates (amplitude and duration criteria of Berry et al. 2012 on the band sum; no SpO2 or arousal, so not scored events)", len(ev))})
+	}
 	in.Facts = append(in.Facts, Fact{Name: "breaths detected", Value: fmt.Sprintf("%d; %s", len(res.Breaths), note)})
 	// Excerpt: centred on the longest pause between breaths (an apnea when
 	// there is one), else from the first breath.
