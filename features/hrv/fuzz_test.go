@@ -2,6 +2,7 @@ package hrv
 
 import (
 	"math"
+	"slices"
 	"testing"
 )
 
@@ -60,6 +61,16 @@ func FuzzSampleEntropyExact(f *testing.F) {
 		wa, wb := sampEnDirect(x, mm, rr)
 		if a != wa || b != wb {
 			t.Fatalf("m=%d r=%v: A=%d B=%d, direct %d %d", mm, rr, a, b, wa, wb)
+		}
+		// ApEn's per-template counts: grid and sorted scan agree exactly.
+		n := len(x) - mm + 1
+		if g, ok := phiCountsGrid(x, n, mm, rr); ok {
+			s := phiCountsSorted(x, n, mm, rr)
+			slices.Sort(g)
+			slices.Sort(s)
+			if !slices.Equal(g, s) {
+				t.Fatalf("m=%d r=%v: ApEn counts differ", mm, rr)
+			}
 		}
 	})
 }

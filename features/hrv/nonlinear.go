@@ -159,58 +159,15 @@ func SampleEntropyCounts(x []float64, m int, r float64) (a, b int64, err error) 
 // too many cells) it reports ok = false and the caller uses the plain sorted
 // scan.
 func countGrid(x []float64, n, m int, r float64) (a, b int64, ok bool) {
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, v := range x {
-		lo, hi = math.Min(lo, v), math.Max(hi, v)
-	}
-	scale := math.Max(math.Abs(lo), math.Abs(hi))
-	if !(r > 1e-6*scale) || (hi-lo)/r > 1e9 {
+	g, ok := newCellGrid(x, n, m+1, r)
+	if !ok {
 		return 0, 0, false
 	}
-	w := r * (1 + 1e-7)
-	cell := make([]int64, n)
-	for i := 0; i < n; i++ {
-		cell[i] = int64(math.Floor((x[i] - lo) / w))
-	}
-	idx := make([]int32, n)
-	for i := range idx {
-		idx[i] = int32(i)
-	}
-	slices.SortFunc(idx, func(p, q int32) int {
-		if cell[p] != cell[q] {
-			if cell[p] < cell[q] {
-				return -1
-			}
-			return 1
-		}
-		if x[p+1] < x[q+1] {
-			return -1
-		}
-		if x[p+1] > x[q+1] {
-			return 1
-		}
-		return int(p - q)
-	})
-	c := make([][]float64, m+1)
-	for d := range c {
-		col := make([]float64, n)
-		for k, i := range idx {
-			col[k] = x[int(i)+d]
-		}
-		c[d] = col
-	}
-	cs := make([]int64, n)
-	for k, i := range idx {
-		cs[k] = cell[i]
-	}
-	c0, c1, cm := c[0], c[1], c[m]
+	c := g.c
+	c0, cm := c[0], c[m]
 	var sameA, sameB, nextA, nextB int64
-	// count scans run [s, e) of one cell for matches of template k.
-	count := func(k, s, e int) (ca, cb int64) {
-		v1 := c1[k]
-		// first j with c1[j]-v1 >= -r, then first j with c1[j]-v1 > r
-		j0 := s + sortSearch(e-s, func(i int) bool { return c1[s+i]-v1 >= -r })
-		j1 := j0 + sortSearch(e-j0, func(i int) bool { return c1[j0+i]-v1 > r })
+	g.walk(r, func(k, j0, j1 int, same bool) {
+		var ca, cb int64
 		v0, vm := c0[k], cm[k]
 		for j := j0; j < j1; j++ {
 			if math.Abs(c0[j]-v0) > r {
@@ -230,32 +187,14 @@ func countGrid(x []float64, n, m int, r float64) (a, b int64, ok bool) {
 				}
 			}
 		}
-		return ca, cb
-	}
-	for s := 0; s < n; {
-		e := s
-		for e < n && cs[e] == cs[s] {
-			e++
-		}
-		// next cell run, only if it is the adjacent cell
-		ns, ne := e, e
-		if e < n && cs[e] == cs[s]+1 {
-			for ne < n && cs[ne] == cs[e] {
-				ne++
-			}
-		}
-		for k := s; k < e; k++ {
-			ca, cb := count(k, s, e)
+		if same {
 			sameA += ca
 			sameB += cb
-			if ne > ns {
-				ca, cb = count(k, ns, ne)
-				nextA += ca
-				nextB += cb
-			}
+		} else {
+			nextA += ca
+			nextB += cb
 		}
-		s = e
-	}
+	})
 	return (sameA-int64(n))/2 + nextA, (sameB-int64(n))/2 + nextB, true
 }
 
@@ -294,6 +233,20 @@ func ApproximateEntropy(x []float64, m int, r float64) (float64, error) {
 // phi computes Pincus' Phi^m(r).
 func phi(x []float64, m int, r float64) float64 {
 	n := len(x) - m + 1
+	cnt, ok := phiCountsGrid(x, n, m, r)
+	if !ok {
+		cnt = phiCountsSorted(x, n, m, r)
+	}
+	var s float64
+	for _, v := range cnt {
+		s += math.Log(float64(v) / float64(n))
+	}
+	return s / float64(n)
+}
+
+// phiCountsSorted returns, per template, the number of templates within r
+// (self included), by the first-coordinate sorted scan.
+func phiCountsSorted(x []float64, n, m int, r float64) []int64 {
 	_, c := sortedTemplates(x, n, m)
 	cnt := make([]int64, n)
 	for k := range cnt {
@@ -315,11 +268,136 @@ func phi(x []float64, m int, r float64) float64 {
 			}
 		}
 	}
-	var s float64
-	for _, v := range cnt {
-		s += math.Log(float64(v) / float64(n))
+	return cnt
+}
+
+// phiCountsGrid is phiCountsSorted by the cell grid of countGrid (m >= 2):
+// matches in a template's own cell are counted from its side only (the
+// partner counts them from its own), matches in the next cell for both.
+// The counts are in cell order, which does not matter for the sum of logs.
+func phiCountsGrid(x []float64, n, m int, r float64) ([]int64, bool) {
+	if m < 2 {
+		return nil, false
 	}
-	return s / float64(n)
+	g, ok := newCellGrid(x, n, m, r)
+	if !ok {
+		return nil, false
+	}
+	cnt := make([]int64, n)
+	c := g.c
+	g.walk(r, func(k, j0, j1 int, same bool) {
+		for j := j0; j < j1; j++ {
+			match := true
+			for d := 0; d < m; d++ {
+				if d != 1 && math.Abs(c[d][j]-c[d][k]) > r {
+					match = false
+					break
+				}
+			}
+			if match {
+				cnt[k]++
+				if !same {
+					cnt[j]++
+				}
+			}
+		}
+	})
+	return cnt, true
+}
+
+// cellGrid holds templates binned by first coordinate into cells of width
+// slightly above r and sorted by (cell, second coordinate); c[d][k] is
+// coordinate d of the k-th template in that order and cell[k] its cell.
+type cellGrid struct {
+	c    [][]float64
+	cell []int64
+}
+
+// newCellGrid builds the grid over the n templates of the given width
+// (coordinates 0..width-1). It reports false when the margin between the
+// cell width and r cannot be guaranteed against rounding.
+func newCellGrid(x []float64, n, width int, r float64) (cellGrid, bool) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range x {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	scale := math.Max(math.Abs(lo), math.Abs(hi))
+	if !(r > 1e-6*scale) || (hi-lo)/r > 1e9 {
+		return cellGrid{}, false
+	}
+	w := r * (1 + 1e-7)
+	cell := make([]int64, n)
+	for i := 0; i < n; i++ {
+		cell[i] = int64(math.Floor((x[i] - lo) / w))
+	}
+	idx := make([]int32, n)
+	for i := range idx {
+		idx[i] = int32(i)
+	}
+	slices.SortFunc(idx, func(p, q int32) int {
+		if cell[p] != cell[q] {
+			if cell[p] < cell[q] {
+				return -1
+			}
+			return 1
+		}
+		if x[p+1] < x[q+1] {
+			return -1
+		}
+		if x[p+1] > x[q+1] {
+			return 1
+		}
+		return int(p - q)
+	})
+	g := cellGrid{c: make([][]float64, width), cell: make([]int64, n)}
+	for d := range g.c {
+		col := make([]float64, n)
+		for k, i := range idx {
+			col[k] = x[int(i)+d]
+		}
+		g.c[d] = col
+	}
+	for k, i := range idx {
+		g.cell[k] = cell[i]
+	}
+	return g, true
+}
+
+// walk calls visit(k, j0, j1, same) for every template k with the run
+// [j0, j1) of templates in k's own cell (same) and in the next cell whose
+// second coordinate is within r of k's (the same |d| <= r comparison as the
+// definition, found by binary search: the run is contiguous because the
+// rounded difference is monotone in the sorted coordinate).
+func (g cellGrid) walk(r float64, visit func(k, j0, j1 int, same bool)) {
+	n := len(g.cell)
+	c1 := g.c[1]
+	window := func(k, s, e int) (int, int) {
+		v1 := c1[k]
+		j0 := s + sortSearch(e-s, func(i int) bool { return c1[s+i]-v1 >= -r })
+		j1 := j0 + sortSearch(e-j0, func(i int) bool { return c1[j0+i]-v1 > r })
+		return j0, j1
+	}
+	for s := 0; s < n; {
+		e := s
+		for e < n && g.cell[e] == g.cell[s] {
+			e++
+		}
+		ns, ne := e, e
+		if e < n && g.cell[e] == g.cell[s]+1 {
+			for ne < n && g.cell[ne] == g.cell[e] {
+				ne++
+			}
+		}
+		for k := s; k < e; k++ {
+			j0, j1 := window(k, s, e)
+			visit(k, j0, j1, true)
+			if ne > ns {
+				j0, j1 = window(k, ns, ne)
+				visit(k, j0, j1, false)
+			}
+		}
+		s = e
+	}
 }
 
 // DFA returns the detrended fluctuation analysis exponent of x over box sizes

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -90,6 +91,14 @@ func TestSampleEntropyExact(t *testing.T) {
 		wa, wb := sampEnDirect(x, m, r)
 		if a != wa || b != wb {
 			t.Fatalf("n=%d m=%d r=%v: A=%d B=%d, direct %d %d", n, m, r, a, b, wa, wb)
+		}
+		if g, ok := phiCountsGrid(x, n-m+1, m, r); ok {
+			s := phiCountsSorted(x, n-m+1, m, r)
+			slices.Sort(g)
+			slices.Sort(s)
+			if !slices.Equal(g, s) {
+				t.Fatalf("n=%d m=%d r=%v: ApEn grid counts differ from the sorted scan", n, m, r)
+			}
 		}
 	}
 }
