@@ -9,8 +9,9 @@ import (
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
-// BenchmarkWeekAt50Hz runs every measure (calibrated pipeline, counts,
-// steps, posture, 30-s epochs) over 7 days of 3-axis data at 50 Hz: the
+// BenchmarkWeekAt50Hz runs every measure (ENMO, MAD, counts, steps,
+// cadence, posture, posture changes, artefact flag in 30-s epochs, and
+// non-wear) over 7 days of 3-axis data at 50 Hz: the
 // simulator's two-hour trail day tiled 84 times. Target: under 2 s per week
 // on one core (issue 7).
 func BenchmarkWeekAt50Hz(b *testing.B) {
@@ -30,6 +31,9 @@ func BenchmarkWeekAt50Hz(b *testing.B) {
 		ep, err := motion.Epochs(x, y, z, 50, origin, spec, motion.Options{})
 		if err != nil || len(ep) < 7*2880 {
 			b.Fatalf("%d epochs, %v", len(ep), err)
+		}
+		if _, err := motion.NonWear(x, y, z, 50, motion.UnitG, motion.NonWearOptions{}); err != nil {
+			b.Fatal(err)
 		}
 	}
 	b.ReportMetric(b.Elapsed().Seconds()/float64(b.N), "s/week")

@@ -427,3 +427,54 @@ func TestColumnsValues(t *testing.T) {
 		t.Fatalf("%d values for %d columns", len(e.Values()), len(motion.Columns()))
 	}
 }
+
+// NonWear merges per-block statistics; it must decide exactly as the pure
+// per-window NonWearWindow applied to every window of the engine's grid,
+// for aligned (3600/900 s) and unaligned (1000/300 s) windows, with NaNs.
+func TestNonWearBlocksMatchPureWindow(t *testing.T) {
+	const rate = 10.0
+	rng := newRand(4)
+	var x, y, z []float64
+	for i := 0; i < 6*3600*10; i++ {
+		tt := float64(i) / rate
+		amp := 0.001
+		if int(tt/5000)%2 == 1 {
+			amp = 0.02 // worn stretches
+		}
+		x, y, z = append(x, amp*rng.NormFloat64()), append(y, 1+amp*rng.NormFloat64()), append(z, amp*rng.NormFloat64())
+		if i%9973 == 0 {
+			y[i] = math.NaN()
+		}
+	}
+	for _, o := range []motion.NonWearOptions{{}, {WindowS: 1000, StepS: 300}, {WindowS: 1800, SDmg: 3, Either: true}} {
+		got, err := motion.NonWear(x, y, z, rate, motion.UnitG, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		w0, s0 := o.WindowS, o.StepS
+		if w0 == 0 {
+			w0 = 3600
+		}
+		if s0 == 0 {
+			s0 = 900
+		}
+		g, _ := window.NewGrid(window.Spec{Length: time.Duration(w0 * 1e9), Step: time.Duration(s0 * 1e9), Anchor: window.AnchorStart}, time.Unix(0, 0))
+		gaps := window.InvalidRuns(nil, y, rate, 0)
+		seq, _ := g.Samples(rate, 0, len(x), gaps)
+		var want []window.Interval
+		for w := range seq {
+			if w.Valid && motion.NonWearWindow(x[w.Lo:w.Hi], y[w.Lo:w.Hi], z[w.Lo:w.Hi], o) {
+				want = append(want, window.Interval{Start: math.Max(0, w.Start), End: math.Min(w.End, float64(len(x))/rate)})
+			}
+		}
+		want, _ = window.NormalizeGaps(want)
+		if len(want) == 0 || len(got) != len(want) {
+			t.Fatalf("%+v: got %v, want %v", o, got, want)
+		}
+		for i := range want {
+			if got[i] != want[i] {
+				t.Errorf("%+v: interval %d got %v want %v", o, i, got[i], want[i])
+			}
+		}
+	}
+}

@@ -48,36 +48,105 @@ func (o NonWearOptions) withDefaults() NonWearOptions {
 // the pure per-window function behind NonWear. It returns false for fewer
 // than two valid samples.
 func NonWearWindow(x, y, z []float64, o NonWearOptions) bool {
-	o = o.withDefaults()
+	return nonWearWindow(x, y, z, 1, o.withDefaults())
+}
+
+// axisStats accumulates one axis over a run of samples: count, sums of
+// deviations from a fixed reference (shifted sums keep mg-level spreads
+// accurate around 1 g), minimum and maximum, all in raw units.
+type axisStats struct {
+	n, s, ss, lo, hi float64
+}
+
+func (a *axisStats) add(v, ref float64) {
+	if v-v != 0 { // NaN or infinite
+		return
+	}
+	if a.n == 0 {
+		a.lo, a.hi = v, v
+	}
+	a.n++
+	d := v - ref
+	a.s += d
+	a.ss += d * d
+	if v < a.lo {
+		a.lo = v
+	}
+	if v > a.hi {
+		a.hi = v
+	}
+}
+
+func (a *axisStats) merge(b axisStats) {
+	if b.n == 0 {
+		return
+	}
+	if a.n == 0 {
+		*a = b
+		return
+	}
+	a.n += b.n
+	a.s += b.s
+	a.ss += b.ss
+	a.lo = min(a.lo, b.lo)
+	a.hi = max(a.hi, b.hi)
+}
+
+// still reports whether the axis passes the SD and range limits (conv: raw
+// unit to g).
+func (a *axisStats) still(conv float64, o NonWearOptions) (ok, enough bool) {
+	if a.n < 2 {
+		return false, false
+	}
+	vr := math.Max(0, (a.ss-a.s*a.s/a.n)/(a.n-1))
+	sdOK := 1000*conv*math.Sqrt(vr) < o.SDmg
+	rgOK := 1000*conv*(a.hi-a.lo) < o.RangeMg
+	if o.Either {
+		return sdOK || rgOK, true
+	}
+	return sdOK && rgOK, true
+}
+
+// decide applies the rule to the three axes' statistics.
+func decide(st *[3]axisStats, conv float64, o NonWearOptions) bool {
 	still := 0
-	for _, a := range [][]float64{x, y, z} {
-		var s, ss float64
-		n := 0
-		lo, hi := math.Inf(1), math.Inf(-1)
-		for _, v := range a {
-			if !finite(v) {
-				continue
-			}
-			n++
-			s += v
-			lo, hi = math.Min(lo, v), math.Max(hi, v)
-		}
-		if n < 2 {
+	for k := range st {
+		ok, enough := st[k].still(conv, o)
+		if !enough {
 			return false
 		}
-		mu := s / float64(n)
-		for _, v := range a {
-			if finite(v) {
-				ss += (v - mu) * (v - mu)
-			}
-		}
-		sdOK := 1000*math.Sqrt(ss/float64(n-1)) < o.SDmg
-		rgOK := 1000*(hi-lo) < o.RangeMg
-		if (o.Either && (sdOK || rgOK)) || (!o.Either && sdOK && rgOK) {
+		if ok {
 			still++
 		}
 	}
 	return still >= o.MinAxes
+}
+
+func statsOf(x, y, z []float64, ref [3]float64) [3]axisStats {
+	var st [3]axisStats
+	for k, a := range [][]float64{x, y, z} {
+		for _, v := range a {
+			st[k].add(v, ref[k])
+		}
+	}
+	return st
+}
+
+// nonWearWindow applies the rule to samples in any unit with conv the
+// factor to g.
+func nonWearWindow(x, y, z []float64, conv float64, o NonWearOptions) bool {
+	ref := [3]float64{firstFinite(x), firstFinite(y), firstFinite(z)}
+	st := statsOf(x, y, z, ref)
+	return decide(&st, conv, o)
+}
+
+func firstFinite(a []float64) float64 {
+	for _, v := range a {
+		if finite(v) {
+			return v
+		}
+	}
+	return 0
 }
 
 // NonWear returns the non-wear periods (s from the first sample, merged) of
@@ -109,25 +178,51 @@ func NonWear(x, y, z []float64, rateHz float64, u Unit, opts NonWearOptions) ([]
 	if err != nil {
 		return nil, fmt.Errorf("motion: non-wear: %w", err)
 	}
-	var bx, by, bz []float64
+	// The windows overlap (60 min every 15 min by default), so statistics
+	// are gathered once per step-long block, from the engine's grid of
+	// blocks, and each window merges the blocks that tile it exactly; a
+	// window that no run of blocks tiles is summed directly.
+	bg, err := window.NewGrid(window.Spec{Length: spec.Step, Step: spec.Step, Anchor: window.AnchorStart}, time.Unix(0, 0))
+	if err != nil {
+		return nil, fmt.Errorf("motion: non-wear: %w", err)
+	}
+	bseq, err := bg.Samples(rateHz, 0, len(x), nil)
+	if err != nil {
+		return nil, fmt.Errorf("motion: non-wear: %w", err)
+	}
+	ref := [3]float64{firstFinite(x), firstFinite(y), firstFinite(z)}
+	type block struct {
+		lo, hi int
+		st     [3]axisStats
+	}
+	var blocks []block
+	for b := range bseq {
+		blocks = append(blocks, block{lo: b.Lo, hi: b.Hi, st: statsOf(x[b.Lo:b.Hi], y[b.Lo:b.Hi], z[b.Lo:b.Hi], ref)})
+	}
 	var out []window.Interval
 	end := sampleTime(rateHz, len(x))
+	bi := 0
 	for w := range seq {
 		if !w.Valid {
 			continue
 		}
-		bx, by, bz = scaled(bx, x[w.Lo:w.Hi], conv), scaled(by, y[w.Lo:w.Hi], conv), scaled(bz, z[w.Lo:w.Hi], conv)
-		if NonWearWindow(bx, by, bz, o) {
+		for bi < len(blocks) && blocks[bi].lo < w.Lo {
+			bi++
+		}
+		var st [3]axisStats
+		at := w.Lo
+		for j := bi; j < len(blocks) && blocks[j].hi <= w.Hi && blocks[j].lo == at; j++ {
+			for k := range st {
+				st[k].merge(blocks[j].st[k])
+			}
+			at = blocks[j].hi
+		}
+		if at != w.Hi {
+			st = statsOf(x[w.Lo:w.Hi], y[w.Lo:w.Hi], z[w.Lo:w.Hi], ref)
+		}
+		if decide(&st, conv, o) {
 			out = append(out, window.Interval{Start: math.Max(w.Start, 0), End: math.Min(w.End, end)})
 		}
 	}
 	return window.NormalizeGaps(out)
-}
-
-func scaled(dst, x []float64, c float64) []float64 {
-	dst = dst[:0]
-	for _, v := range x {
-		dst = append(dst, v*c)
-	}
-	return dst
 }
