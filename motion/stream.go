@@ -21,6 +21,7 @@ type Stream struct {
 	pushed int // samples handed to the window stream
 	ready  []Epoch
 	steps  []float64
+	closed bool
 	err    error
 }
 
@@ -47,6 +48,9 @@ func (s *Stream) Push(x, y, z []float64) error {
 	if s.err != nil {
 		return s.err
 	}
+	if s.closed {
+		return fmt.Errorf("motion stream: push after close: %w", window.ErrClosed)
+	}
 	if err := s.p.push(x, y, z); err != nil {
 		return err
 	}
@@ -58,6 +62,10 @@ func (s *Stream) Close() error {
 	if s.err != nil {
 		return s.err
 	}
+	if s.closed {
+		return fmt.Errorf("motion stream: closed twice: %w", window.ErrClosed)
+	}
+	s.closed = true
 	if err := s.release(s.p.n); err != nil {
 		return err
 	}

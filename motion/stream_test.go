@@ -1,6 +1,7 @@
 package motion_test
 
 import (
+	"errors"
 	"math"
 	"testing"
 	"time"
@@ -88,5 +89,37 @@ func TestStreamMatchesBatchAnyChunking(t *testing.T) {
 		if d := cmp.Diff(tr.Changes, changes); d != "" {
 			t.Fatalf("trial %d: posture changes differ:\n%s", trial, d)
 		}
+	}
+}
+
+func TestStreamErrors(t *testing.T) {
+	spec := window.Spec{Length: 10 * time.Second, Step: 10 * time.Second}
+	if _, err := motion.NewStream(origin, spec, 5, motion.Options{}); !errors.Is(err, motion.ErrInput) {
+		t.Errorf("5 Hz stream: %v", err)
+	}
+	if _, err := motion.NewStream(origin, window.Spec{}, 50, motion.Options{}); !errors.Is(err, window.ErrSpec) {
+		t.Errorf("empty spec: %v", err)
+	}
+	s, err := motion.NewStream(origin, spec, 50, motion.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Push([]float64{1}, []float64{1, 2}, []float64{1}); !errors.Is(err, motion.ErrInput) {
+		t.Errorf("ragged push: %v", err)
+	}
+	if err := s.Push(make([]float64, 100), make([]float64, 100), make([]float64, 100)); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if ep := s.Ready(); len(ep) != 1 || ep[0].Valid {
+		t.Errorf("2 s of data in a 10-s window: %+v", ep)
+	}
+	if err := s.Push([]float64{0}, []float64{1}, []float64{0}); !errors.Is(err, window.ErrClosed) {
+		t.Errorf("push after close: %v", err)
+	}
+	if err := s.Close(); !errors.Is(err, window.ErrClosed) {
+		t.Errorf("second close: %v", err)
 	}
 }
