@@ -31,9 +31,9 @@ type Options struct {
 	// BaselineHz is the baseline-wander high-pass corner; 0.5 Hz when zero
 	// (common practice, no source).
 	BaselineHz float64
-	// NotchHz lists power-line frequencies to suppress; 50 and 60 Hz when nil
-	// (both mains frequencies in use). An empty non-nil slice disables the
-	// notches.
+	// NotchHz lists power-line frequencies to suppress (at most 6); 50 and
+	// 60 Hz when nil (both mains frequencies in use). An empty non-nil slice
+	// disables the notches.
 	NotchHz []float64
 	// NotchWidthHz is the -3 dB width of each notch; 2 Hz when zero (common
 	// practice).
@@ -98,6 +98,8 @@ func (o Options) withDefaults() (Options, error) {
 	case o.IntegrationS > 1 || o.RefractoryS > 1 || o.TWaveS > 2 || o.LearningS > 60 || o.FlatS > 60:
 		return o, fmt.Errorf("ecg: time constant too long (integration %v s, refractory %v s, T-wave %v s, learning %v s, flat %v s): %w",
 			o.IntegrationS, o.RefractoryS, o.TWaveS, o.LearningS, o.FlatS, ErrOptions)
+	case len(o.NotchHz) > maxNotches:
+		return o, fmt.Errorf("ecg: %d notches, at most %d: %w", len(o.NotchHz), maxNotches, ErrOptions)
 	case o.Polarity < -1 || o.Polarity > 1:
 		return o, fmt.Errorf("ecg: polarity %d not in -1, 0, 1: %w", o.Polarity, ErrOptions)
 	case math.IsNaN(o.ClipLowmV) || math.IsNaN(o.ClipHighmV):
@@ -192,9 +194,7 @@ func (d *Detector) Push(chunk []float64) ([]Beat, error) {
 		return nil, fmt.Errorf("ecg: push: %w", ErrClosed)
 	}
 	d.c.emit = d.out[:0]
-	for _, v := range chunk {
-		d.c.push(v)
-	}
+	d.c.pushChunk(chunk)
 	return d.take(), nil
 }
 
@@ -256,14 +256,15 @@ type core struct {
 	opt Options
 	ch  chain
 
-	cond, band *dsp.Filter
+	cs, bs []sec // conditioning and band-pass sections with their state
 
-	// Validity stage: a delay line of flatN samples so flat runs are known
-	// before their samples reach the detector.
-	flatN   int
-	dl      []float64
-	dlBad   []bool
-	in      int // samples received
+	// Validity stage: samples wait until flatN more have arrived, so flat
+	// runs are known before their samples reach the detector.
+	flatN     int
+	pend      []float64
+	pendBad   []bool
+	pendStart int // global index of pend[0]
+	in        int // samples received
 	prev    float64
 	prevOK  bool
 	runLen  int
@@ -276,8 +277,9 @@ type core struct {
 	cbuf     []float64
 	fbuf     []float64
 	dbuf     []float64
-	sbuf     []float64
-	mbuf     []float64
+	f1, f2   float64 // band-passed samples n-1 .. n-4
+	f3, f4   float64
+	m1, m2   float64 // integrator samples n-1, n-2
 	sum      float64
 	intN     int
 	refN     int
@@ -312,7 +314,8 @@ type core struct {
 	rr1, rr2 rrRing
 	sbWait   int // missedLimit() + refN + 2, updated with the RR averages
 	invIntN  float64
-	dlPos    int // delay-line slot of the next incoming sample
+	pendDue  int // sample at which the pending peak is final
+	sbDue    int // sample at which search-back is due
 	polVote  float64
 	polSet   bool
 
@@ -350,10 +353,10 @@ func (c *core) init(fs float64, o Options) error {
 		return err
 	}
 	c.fs, c.opt, c.ch = fs, o, ch
-	c.cond, c.band = ch.cond.NewFilter(), ch.band.NewFilter()
+	c.cs, c.bs = secsOf(ch.cond), secsOf(ch.band)
 	c.flatN = max(2, int(math.Round(o.FlatS*fs)))
-	c.dl = make([]float64, c.flatN+1)
-	c.dlBad = make([]bool, c.flatN+1)
+	c.pend = make([]float64, 0, c.flatN+4096)
+	c.pendBad = make([]bool, 0, c.flatN+4096)
 	c.clipSet = o.ClipHighmV > o.ClipLowmV
 	c.intN = max(1, int(math.Round(o.IntegrationS*fs)))
 	c.invIntN = 1 / float64(c.intN)
@@ -371,57 +374,74 @@ func (c *core) init(fs float64, o Options) error {
 	c.cbuf = make([]float64, size)
 	c.fbuf = make([]float64, size)
 	c.dbuf = make([]float64, size)
-	c.sbuf = make([]float64, size)
-	c.mbuf = make([]float64, size)
 	missedMax := int(math.Ceil(1.66 * 2.0 * fs))
 	c.latencyN = c.flatN + max(missedMax+c.refN, c.learnN) + c.intN + c.refN + ch.bandDelay + c.rWin + 4
 	c.inGap = true // nothing seen yet: the first valid sample starts a segment
 	c.gapStart = 0
+	c.pendDue, c.sbDue = math.MaxInt, math.MaxInt
 	return nil
 }
 
-// push runs the validity stage on one incoming sample.
-func (c *core) push(x float64) {
-	i := c.in
-	c.in++
-	bad := math.IsNaN(x) || math.IsInf(x, 0) || (c.clipSet && (x >= c.opt.ClipHighmV || x <= c.opt.ClipLowmV))
-	L := len(c.dl)
-	if !bad && c.prevOK && x == c.prev {
-		c.runLen++
-	} else {
-		c.runLen = 1
-	}
-	c.prev, c.prevOK = x, !bad
-	if c.runLen == c.flatN {
-		// The run just became a flat line: mark its earlier samples, which
-		// are all still in the delay line.
-		for j := i - c.flatN + 1; j < i; j++ {
-			c.dlBad[j%L] = true
+// pushChunk runs the validity stage over a chunk, in pieces of at most
+// pieceN samples so the pending buffer stays bounded, and hands every sample
+// whose validity is final (flatN samples have followed it) to the detector.
+// Block boundaries do not change any arithmetic: the detector sees the same
+// samples in the same order for any chunking.
+func (c *core) pushChunk(chunk []float64) {
+	const pieceN = 4096
+	for len(chunk) > 0 {
+		k := min(len(chunk), pieceN)
+		c.validate(chunk[:k])
+		chunk = chunk[k:]
+		if done := len(c.pend) - c.flatN; done > 0 {
+			c.process(c.pend[:done], c.pendBad[:done])
+			n := copy(c.pend, c.pend[done:])
+			copy(c.pendBad, c.pendBad[done:])
+			c.pend, c.pendBad = c.pend[:n], c.pendBad[:n]
+			c.pendStart += done
 		}
 	}
-	if c.runLen >= c.flatN {
-		bad = true
+}
+
+// validate decides the validity of incoming samples: NaN, infinite or
+// clipped samples are bad at once; a run of flatN identical samples becomes
+// bad as a whole when its last sample arrives (all of it is still pending
+// then).
+func (c *core) validate(xs []float64) {
+	p0 := len(c.pend)
+	c.pend = append(c.pend, xs...)
+	c.pendBad = append(c.pendBad, make([]bool, len(xs))...)
+	bads := c.pendBad[p0:]
+	prev, prevOK, runLen := c.prev, c.prevOK, c.runLen
+	lo, hi := c.opt.ClipLowmV, c.opt.ClipHighmV
+	for k, x := range xs {
+		// x-x is NaN exactly when x is NaN or infinite.
+		bad := x-x != 0 || (c.clipSet && (x >= hi || x <= lo))
+		if !bad && prevOK && x == prev {
+			runLen++
+		} else {
+			runLen = 1
+		}
+		prev, prevOK = x, !bad
+		if runLen >= c.flatN {
+			if runLen == c.flatN {
+				i := c.in + k
+				for j := i - c.flatN + 1; j < i; j++ {
+					c.pendBad[j-c.pendStart] = true
+				}
+			}
+			bad = true
+		}
+		bads[k] = bad
 	}
-	// Slot of sample i is i % L, kept as a counter; sample i - flatN sits in
-	// the next slot (L = flatN + 1).
-	w := c.dlPos
-	r := w + 1
-	if r == L {
-		r = 0
-	}
-	if i >= c.flatN {
-		c.step(c.dl[r], c.dlBad[r])
-	}
-	c.dl[w] = x
-	c.dlBad[w] = bad
-	c.dlPos = r
+	c.in += len(xs)
+	c.prev, c.prevOK, c.runLen = prev, prevOK, runLen
 }
 
 func (c *core) flush() {
-	L := len(c.dl)
-	for j := max(0, c.in-c.flatN); j < c.in; j++ {
-		c.step(c.dl[j%L], c.dlBad[j%L])
-	}
+	c.process(c.pend, c.pendBad)
+	c.pendStart += len(c.pend)
+	c.pend, c.pendBad = c.pend[:0], c.pendBad[:0]
 	c.endSegment()
 	if c.inGap && c.n > c.gapStart {
 		c.gaps = append(c.gaps, window.Interval{Start: float64(c.gapStart) / c.fs, End: float64(c.n) / c.fs})
@@ -437,101 +457,192 @@ func (c *core) endSegment() {
 	if c.pending {
 		c.finalize(c.pk, c.pv)
 		c.pending = false
+		c.pendDue = math.MaxInt
 	}
 }
 
-// step processes sample c.n.
-func (c *core) step(x float64, bad bool) {
-	n := c.n
-	c.n++
-	if bad {
-		if !c.inGap {
-			c.endSegment()
-			c.inGap = true
-			c.gapStart = n
+// process feeds final samples to the detector: gaps for bad ones, the fast
+// loop for each run of good ones.
+func (c *core) process(x []float64, bad []bool) {
+	for i := 0; i < len(x); {
+		if bad[i] {
+			if !c.inGap {
+				c.endSegment()
+				c.inGap = true
+				c.gapStart = c.n
+			}
+			c.n++
+			i++
+			continue
 		}
-		return
-	}
-	if c.inGap {
-		if n > c.gapStart {
-			c.gaps = append(c.gaps, window.Interval{Start: float64(c.gapStart) / c.fs, End: float64(n) / c.fs})
+		j := i + 1
+		for j < len(x) && !bad[j] {
+			j++
 		}
-		c.startSegment(n, x)
+		if c.inGap {
+			if c.n > c.gapStart {
+				c.gaps = append(c.gaps, window.Interval{Start: float64(c.gapStart) / c.fs, End: float64(c.n) / c.fs})
+			}
+			c.startSegment(c.n, x[i])
+		}
+		c.run(x[i:j])
+		i = j
 	}
+}
+
+// sec is one biquad with its state (transposed direct form II), the same
+// recursion as dsp.Filter, kept beside its coefficients for speed.
+type sec struct{ b0, b1, b2, a1, a2, z0, z1 float64 }
+
+// maxSecs bounds the sections of either chain: baseline high-pass plus up to
+// maxNotches notches, or the 2-section band-pass.
+const (
+	maxNotches = 6
+	maxSecs    = 1 + maxNotches
+)
+
+func secsOf(c dsp.Cascade) []sec {
+	out := make([]sec, len(c))
+	for i, q := range c {
+		out[i] = sec{b0: q.B0, b1: q.B1, b2: q.B2, a1: q.A1, a2: q.A2}
+	}
+	return out
+}
+
+// resetSecs sets the steady state for a constant input x (as dsp.Filter.Reset).
+func resetSecs(s []sec, x float64) {
+	for i := range s {
+		q := &s[i]
+		g := (q.b0 + q.b1 + q.b2) / (1 + q.a1 + q.a2)
+		y := g * x
+		q.z1 = q.b2*x - q.a2*y
+		q.z0 = y - q.b0*x
+		x = y
+	}
+}
+
+// run is the per-sample Pan-Tompkins pipeline over valid samples of the
+// current segment.
+func (c *core) run(x []float64) {
+	// Work on stack copies of the sections (the common chain has 3 + 2).
+	var cs, bs [maxSecs]sec
+	nc, nb := copy(cs[:], c.cs), copy(bs[:], c.bs)
+	cbuf, fbuf, dbuf := c.cbuf, c.fbuf, c.dbuf
 	m := c.mask
-	cv := c.cond.Step(x)
-	fv := c.band.Step(cv)
-	c.cbuf[n&m] = cv
-	c.fbuf[n&m] = fv
-	// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise 12.14);
-	// samples before the segment start are zero (ring cleared at start).
-	dv := (2*fv + c.fbuf[(n-1)&m] - c.fbuf[(n-3)&m] - 2*c.fbuf[(n-4)&m]) * (c.fs / 8)
-	c.dbuf[n&m] = dv
-	sv := dv * dv
-	c.sum += sv - c.sbuf[(n-c.intN)&m]
-	if c.sum < 0 {
-		c.sum = 0
-	}
-	c.sbuf[n&m] = sv
-	mv := c.sum * c.invIntN
-	c.mbuf[n&m] = mv
+	k8 := c.fs / 8
+	inv := c.invIntN
+	intN := c.intN
+	f1, f2, f3, f4 := c.f1, c.f2, c.f3, c.f4
+	m1, m2 := c.m1, c.m2
+	sum := c.sum
+	n := c.n
+	for _, v := range x {
+		c.n = n + 1
+		for i := 0; i < nc; i++ {
+			q := &cs[i]
+			y := q.b0*v + q.z0
+			q.z0 = q.b1*v - q.a1*y + q.z1
+			q.z1 = q.b2*v - q.a2*y
+			v = y
+		}
+		cv := v
+		for i := 0; i < nb; i++ {
+			q := &bs[i]
+			y := q.b0*v + q.z0
+			q.z0 = q.b1*v - q.a1*y + q.z1
+			q.z1 = q.b2*v - q.a2*y
+			v = y
+		}
+		fv := v
+		// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise
+		// 12.14); samples before the segment start count as zero.
+		dv := (2*fv + f1 - f3 - 2*f4) * k8
+		f4, f3, f2, f1 = f3, f2, f1, fv
+		old := dbuf[(n-intN)&m]
+		sum += dv*dv - old*old
+		if sum < 0 {
+			sum = 0
+		}
+		i := n & m
+		cbuf[i], fbuf[i], dbuf[i] = cv, fv, dv
+		mv := sum * inv
 
-	if !c.learned {
-		if mv > c.lmaxM {
-			c.lmaxM = mv
-		}
-		c.lsumM += mv
-		af := math.Abs(fv)
-		if af > c.lmaxF {
-			c.lmaxF = af
-		}
-		c.lsumF += af
-		if n-c.seg+1 >= c.learnN {
-			c.finishLearning()
-		}
-	}
-
-	// Peak finding on the integrator: a local maximum at n-1; peaks closer
-	// than the refractory period are merged, keeping the larger.
-	if c.pending && n-1-c.pk > c.refN {
-		c.finalize(c.pk, c.pv)
-		c.pending = false
-	}
-	if n-2 >= c.seg {
-		a, b := c.mbuf[(n-2)&m], c.mbuf[(n-1)&m]
-		if b > a && b >= mv {
-			if !c.pending {
-				c.pending, c.pk, c.pv = true, n-1, b
-			} else if b > c.pv {
-				c.pk, c.pv = n-1, b
+		if !c.learned {
+			if mv > c.lmaxM {
+				c.lmaxM = mv
+			}
+			c.lsumM += mv
+			af := math.Abs(fv)
+			if af > c.lmaxF {
+				c.lmaxF = af
+			}
+			c.lsumF += af
+			if n-c.seg+1 >= c.learnN {
+				c.finishLearning()
 			}
 		}
+		// Peaks of the integrator: a local maximum at n-1; peaks closer
+		// than the refractory period are merged, keeping the larger.
+		if n >= c.pendDue {
+			c.finalize(c.pk, c.pv)
+			c.pending = false
+			c.pendDue = math.MaxInt
+		}
+		if m1 > m2 && m1 >= mv && n-2 >= c.seg {
+			if !c.pending {
+				c.pending, c.pk, c.pv = true, n-1, m1
+				c.pendDue = n - 1 + c.refN + 2
+			} else if m1 > c.pv {
+				c.pk, c.pv = n-1, m1
+				c.pendDue = n - 1 + c.refN + 2
+			}
+		}
+		m2, m1 = m1, mv
+		// Search-back when nothing was found within 166 % of RR average 2
+		// (plus a refractory period, so every candidate up to the limit has
+		// been finalised).
+		if n >= c.sbDue {
+			c.searchBack(n)
+		}
+		n++
 	}
-	// Search-back: nothing found within 166 % of RR average 2.
-	// It waits a refractory period more, so every candidate up to the limit
-	// has been finalised and pooled.
-	if c.learned && n-c.sbRef > c.sbWait {
-		c.searchBack(n)
+	copy(c.cs, cs[:nc])
+	copy(c.bs, bs[:nb])
+	c.f1, c.f2, c.f3, c.f4 = f1, f2, f3, f4
+	c.m1, c.m2 = m1, m2
+	c.sum = sum
+	c.n = n
+}
+
+// updSB recomputes the sample at which search-back is due.
+func (c *core) updSB() {
+	if !c.learned {
+		c.sbDue = math.MaxInt
+		return
 	}
+	c.sbDue = c.sbRef + c.sbWait + 1
 }
 
 func (c *core) startSegment(n int, x float64) {
 	c.inGap = false
 	c.seg = n
-	c.cond.Reset(x)
-	c.band.Reset(0)
-	for i := range c.fbuf {
-		c.fbuf[i], c.sbuf[i], c.mbuf[i], c.cbuf[i], c.dbuf[i] = 0, 0, 0, 0, 0
-	}
+	resetSecs(c.cs, x)
+	resetSecs(c.bs, 0)
+	clear(c.cbuf)
+	clear(c.fbuf)
+	clear(c.dbuf)
+	c.f1, c.f2, c.f3, c.f4, c.m1, c.m2 = 0, 0, 0, 0, 0, 0
 	c.sum = 0
 	c.learned = false
 	c.lmaxM, c.lsumM, c.lmaxF, c.lsumF = 0, 0, 0, 0
 	c.queue = c.queue[:0]
 	c.noise = c.noise[:0]
 	c.pending = false
+	c.pendDue = math.MaxInt
 	c.haveLast = false
 	c.rr1, c.rr2 = rrRing{}, rrRing{}
 	c.sbWait = c.missedLimit() + c.refN + 2
+	c.updSB()
 }
 
 // finishLearning initialises the thresholds from the learning phase: signal
@@ -546,6 +657,7 @@ func (c *core) finishLearning() {
 	c.npkf = c.lsumF / nl / 2
 	c.learned = true
 	c.sbRef = c.seg
+	c.updSB()
 	q := c.queue
 	c.queue = c.queue[:0]
 	for _, cd := range q {
@@ -709,6 +821,7 @@ func (c *core) searchBack(n int) {
 	if best < 0 {
 		c.noise = c.noise[:0]
 		c.sbRef = n
+		c.updSB()
 		return
 	}
 	rest := append([]candidate(nil), c.noise[best+1:]...)
@@ -757,6 +870,7 @@ func (c *core) declare(cd candidate, sb bool) {
 	c.haveLast = true
 	c.lastK, c.lastR, c.lastSlp = cd.k, r, cd.slope
 	c.sbRef = cd.k
+	c.updSB()
 	c.noise = c.noise[:0]
 	c.emit = append(c.emit, Beat{
 		Sample:      r,
@@ -777,6 +891,7 @@ func (c *core) addRR(rr float64) {
 	if c.rr2.n == 0 {
 		c.rr2.add(rr)
 		c.sbWait = c.missedLimit() + c.refN + 2
+		c.updSB()
 		return
 	}
 	avg2 := c.rr2.mean()
@@ -796,4 +911,5 @@ func (c *core) addRR(rr float64) {
 		}
 	}
 	c.sbWait = c.missedLimit() + c.refN + 2
+	c.updSB()
 }
