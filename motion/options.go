@@ -174,7 +174,8 @@ const (
 // vector magnitude of the calibrated acceleration (one filter), not per axis.
 type CountOptions struct {
 	// LowHz and HighHz bound the pass band of a Butterworth band-pass
-	// (order 2 high-pass then order 2 low-pass, causal). Defaults 0.29 and
+	// (order 2 high-pass then order 2 low-pass, causal; the order is
+	// Tidalbeat's choice). Defaults 0.29 and
 	// 1.66 Hz: the pass band restated for Brønd et al. 2017 (0.29-1.63 Hz,
 	// from memory, unverified) with the low-pass half-power cut-off 1.66 Hz
 	// reported by Fridolfsson, Börjesson and Arvidsson, Sensors 18:3399, 2018.
@@ -334,9 +335,9 @@ func (o IntensityOptions) withDefaults() IntensityOptions {
 // ArtefactOptions decides the motion-artefact flag of a window.
 type ArtefactOptions struct {
 	// MADmg flags a window whose MAD reaches it. Default 91 mg, the
-	// light/moderate cut-point: above light activity, ECG and respiratory
-	// bands are routinely corrupted by movement (Tidalbeat's choice, common
-	// practice that the bands fail first).
+	// light/moderate cut-point (Tidalbeat's choice, no source: beyond light
+	// activity, movement artefact in the ECG and above all in inductance
+	// bands is to be expected). Tune it against your own quality labels.
 	MADmg float64
 	// NoPostureChange, when true, does not flag windows holding a posture
 	// change (by default they are flagged, because a posture change shifts
