@@ -265,11 +265,11 @@ type core struct {
 	pendBad   []bool
 	pendStart int // global index of pend[0]
 	in        int // samples received
-	prev    float64
-	prevOK  bool
-	runLen  int
-	runBad  bool
-	clipSet bool
+	prev      float64
+	prevOK    bool
+	runLen    int
+	runBad    bool
+	clipSet   bool
 
 	// Detector state.
 	n        int // index of the sample being processed
