@@ -39,6 +39,24 @@ func BenchmarkCompute5min(b *testing.B) {
 	b.ReportMetric(b.Elapsed().Seconds()*1000/float64(b.N), "ms/window")
 }
 
+// The full set with the Lomb-Scargle and Burg estimators instead of Welch.
+func BenchmarkCompute5minLomb(b *testing.B) { benchEstimator(b, Lomb) }
+
+// BenchmarkCompute5minBurg: see BenchmarkCompute5minLomb.
+func BenchmarkCompute5minBurg(b *testing.B) { benchEstimator(b, Burg) }
+
+func benchEstimator(b *testing.B, e Estimator) {
+	nn, end := restingNN(1, 375)
+	opt := Options{WindowS: 300, Spectrum: SpectrumOptions{Estimator: e}}
+	var w work
+	for b.Loop() {
+		if m := w.compute(nn, end, opt); m.Err != nil {
+			b.Fatal(m.Err)
+		}
+	}
+	b.ReportMetric(b.Elapsed().Seconds()*1000/float64(b.N), "ms/window")
+}
+
 // Target: exact sample entropy of a 100,000-beat series in under 1 s.
 func BenchmarkSampleEntropy100k(b *testing.B) {
 	nn, _ := restingNN(2, 100000)

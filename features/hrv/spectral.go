@@ -295,16 +295,12 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 			return PSD{}, fmt.Errorf("hrv: Lomb grid step %v Hz up to %v Hz: %w", step, maxHz, ErrInput)
 		}
 		freqs := grid(step, step, maxHz)
-		om := make([]float64, len(freqs))
-		for k, f := range freqs {
-			om[k] = 2 * math.Pi * f
-		}
 		// Times relative to the first sample keep the phases accurate.
 		t := make([]float64, len(endS))
 		for i, v := range endS {
 			t[i] = v - endS[0]
 		}
-		p, err := dsp.LombScargle(nil, t, z, om)
+		p, err := dsp.LombScargleGrid(nil, t, z, 2*math.Pi*step, 2*math.Pi*step, len(freqs))
 		if err != nil {
 			return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
 		}

@@ -87,3 +87,38 @@ func TestLombBadInput(t *testing.T) {
 		t.Errorf("zero frequency: %v", err)
 	}
 }
+
+// The rotation-recurrence grid version equals the direct evaluation.
+func TestLombGridEqualsDirect(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	var tt, y []float64
+	for ti := 3.0; ti < 600; ti += 0.5 + rng.Float64() {
+		tt = append(tt, ti)
+		y = append(y, rng.NormFloat64())
+	}
+	const w0, dw, n = 0.01, 0.004, 900
+	om := make([]float64, n)
+	for k := range om {
+		om[k] = w0 + float64(k)*dw
+	}
+	want, err := LombScargle(nil, tt, y, om)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := LombScargleGrid(nil, tt, y, w0, dw, n)
+	if err != nil {
+		t.Fatal(err)
+	}
+	peak := 0.0
+	for _, v := range want {
+		peak = math.Max(peak, v)
+	}
+	for k := range want {
+		if !relClose(got[k], want[k], 1e-9, 1e-12*peak) {
+			t.Fatalf("omega %v: grid %v, direct %v", om[k], got[k], want[k])
+		}
+	}
+	if _, err := LombScargleGrid(nil, tt, y, 0, dw, 3); !errors.Is(err, ErrSeries) {
+		t.Errorf("zero first frequency: %v", err)
+	}
+}
