@@ -95,38 +95,58 @@ func OpenStreamWith(path string, opt Options) (*Reader, error) {
 
 // Next reads up to maxFrames frames (at least 1; values below 1 mean 1). At
 // the end of the recording it returns an empty Chunk and io.EOF. Any other
-// error names the file and the field and wraps a package sentinel.
+// error names the file and the field and wraps a package sentinel. Each
+// chunk has freshly allocated slices that the caller may keep.
 func (r *Reader) Next(maxFrames int) (Chunk, error) {
+	n := len(r.Info.Channels)
+	c := Chunk{Frame: r.pos, Start: float64(r.pos) / r.FrameHz, Samples: make([][]float64, n), Gaps: make([][]window.Interval, n)}
+	if r.count == nil {
+		r.count = make([]int64, n)
+	}
+	c.First = append([]int64(nil), r.count...)
+	for i := range c.Samples {
+		c.Samples[i] = make([]float64, 0, min(max(maxFrames, 1), 1<<16)*r.SamplesPerFrame[i])
+	}
+	got, err := r.appendNext(maxFrames, c.Samples, c.Gaps)
+	if err != nil {
+		return Chunk{}, err
+	}
+	c.N = got
+	return c, nil
+}
+
+// appendNext is the one driver of the decoders: it appends up to maxFrames
+// frames to samples[i] and their invalid stretches to gaps[i].
+func (r *Reader) appendNext(maxFrames int, samples [][]float64, gaps [][]window.Interval) (int, error) {
 	if r.done {
-		return Chunk{}, io.EOF
+		return 0, io.EOF
 	}
 	if maxFrames < 1 {
 		maxFrames = 1
 	}
-	n := len(r.Info.Channels)
 	if r.count == nil {
-		r.count = make([]int64, n)
+		r.count = make([]int64, len(r.Info.Channels))
 	}
-	c := Chunk{Frame: r.pos, Start: float64(r.pos) / r.FrameHz, Samples: make([][]float64, n), Gaps: make([][]window.Interval, n), First: append([]int64(nil), r.count...)}
-	for i := range c.Samples {
-		c.Samples[i] = make([]float64, 0, min(maxFrames, 1<<16)*r.SamplesPerFrame[i])
+	from := make([]int, len(samples))
+	for i := range samples {
+		from[i] = len(samples[i])
 	}
-	got, err := r.src.read(maxFrames, c.Samples)
+	got, err := r.src.read(maxFrames, samples)
 	if err != nil {
 		if errors.Is(err, io.EOF) {
 			r.done = true
 			r.Info.Warnings = append(r.Info.Warnings, r.src.warnings()...)
 		}
-		return Chunk{}, err
+		return 0, err
 	}
-	for i, s := range c.Samples {
+	for i := range samples {
+		s := samples[i][from[i]:]
 		rate := r.Info.Channels[i].RateHz
-		c.Gaps[i] = window.InvalidRuns(nil, s, rate, float64(r.count[i])/rate)
+		gaps[i] = window.InvalidRuns(gaps[i], s, rate, float64(r.count[i])/rate)
 		r.count[i] += int64(len(s))
 	}
-	c.N = got
 	r.pos += int64(got)
-	return c, nil
+	return got, nil
 }
 
 // Close releases the files held by the Reader.
@@ -143,18 +163,22 @@ func readAll(r *Reader, framesHint int64) (*Recording, error) {
 		}
 	}
 	const chunkFrames = 1 << 15
+	samples := make([][]float64, len(rec.Channels))
+	gaps := make([][]window.Interval, len(rec.Channels))
+	for i := range rec.Channels {
+		samples[i] = rec.Channels[i].Samples
+	}
 	for {
-		c, err := r.Next(chunkFrames)
+		_, err := r.appendNext(chunkFrames, samples, gaps)
 		if errors.Is(err, io.EOF) {
 			break
 		}
 		if err != nil {
 			return nil, err
 		}
-		for i := range rec.Channels {
-			rec.Channels[i].Samples = append(rec.Channels[i].Samples, c.Samples[i]...)
-			rec.Channels[i].Gaps = append(rec.Channels[i].Gaps, c.Gaps[i]...)
-		}
+	}
+	for i := range rec.Channels {
+		rec.Channels[i].Samples, rec.Channels[i].Gaps = samples[i], gaps[i]
 	}
 	for i := range rec.Channels {
 		g, err := window.NormalizeGaps(rec.Channels[i].Gaps)

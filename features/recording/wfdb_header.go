@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"unicode"
 )
 
 // WFDB header defaults (WFDB header format, PhysioNet documentation, from
@@ -326,9 +327,8 @@ func parseSignalLine(line string, idx int) (WFDBSignal, error) {
 		// The description is the rest of the line after eight fields.
 		rest := line
 		for k := 0; k < 8; k++ {
-			rest = strings.TrimLeft(rest, " \t")
-			j := strings.IndexAny(rest, " \t")
-			rest = rest[j:]
+			rest = strings.TrimLeftFunc(rest, unicode.IsSpace)
+			rest = rest[strings.IndexFunc(rest, unicode.IsSpace):]
 		}
 		s.Description = strings.TrimSpace(rest)
 		s.hasDescription = true
