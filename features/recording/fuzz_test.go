@@ -244,4 +244,3 @@ func itoa(v int) string {
 		}
 	}
 }
-
