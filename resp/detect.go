@@ -122,7 +122,7 @@ type core struct {
 
 	lpR, lpA, hpR, hpA, hfS *dsp.Filter
 
-	cap                      int
+	cap, mask                int
 	m, rf, af, rl, al, hf2   []float64
 	flag                     []uint8
 	n                        int // global index of the next sample
@@ -197,7 +197,12 @@ func newCore(opt Options) (*core, error) {
 	f0 := o.LowpassHz / 100
 	h := lp.Response(f0, o.RateHz)
 	c.delay = -math.Atan2(imag(h), real(h)) / (2 * math.Pi * f0)
-	c.cap = int(o.BufferS*o.RateHz) + 2
+	// The ring is a power of two so that indexing is a mask.
+	c.cap = 1
+	for c.cap < int(o.BufferS*o.RateHz)+2 {
+		c.cap *= 2
+	}
+	c.mask = c.cap - 1
 	for _, p := range []*[]float64{&c.m, &c.rf, &c.af, &c.rl, &c.al, &c.hf2} {
 		*p = make([]float64, c.cap)
 	}
@@ -295,7 +300,7 @@ func (c *core) step(rib, abd float64) {
 		c.runR, c.runA = 0, 0
 	}
 	n := c.n
-	k := n % c.cap
+	k := n & c.mask
 	rl := c.lpR.Step(rib)
 	al := c.lpA.Step(abd)
 	rf := c.a * c.hpR.Step(rl)
@@ -328,8 +333,12 @@ func (c *core) step(rib, abd float64) {
 	c.flag[k] = fl
 
 	if len(c.amps) < 3 {
-		c.warmHi = math.Max(c.warmHi, d)
-		c.warmLo = math.Min(c.warmLo, d)
+		if d > c.warmHi {
+			c.warmHi = d
+		}
+		if d < c.warmLo {
+			c.warmLo = d
+		}
 	}
 	ref := c.reference()
 	h := c.o.HysteresisFrac * ref
@@ -342,7 +351,7 @@ func (c *core) step(rib, abd float64) {
 			c.state, c.ext = stLow, n
 		}
 	case stHigh:
-		if m > c.m[c.ext%c.cap] {
+		if m > c.m[c.ext&c.mask] {
 			c.ext = n
 		}
 		if c.onset >= 0 && n-c.onset >= c.cap-2 {
@@ -360,7 +369,7 @@ func (c *core) step(rib, abd float64) {
 			c.state, c.ext = stLow, n
 		}
 	case stLow:
-		if m < c.m[c.ext%c.cap] {
+		if m < c.m[c.ext&c.mask] {
 			c.ext = n
 		}
 		if c.peak >= 0 && n-c.onset >= c.cap-2 {
@@ -391,10 +400,12 @@ func (c *core) endExpAt(from, to int, tol float64) int {
 	hi := min(to, from+int((1.5*c.medTe+1)*c.fs))
 	lo := math.Inf(1)
 	for i := from; i <= hi; i++ {
-		lo = math.Min(lo, c.m[i%c.cap])
+		if v := c.m[i&c.mask]; v < lo {
+			lo = v
+		}
 	}
 	for i := from; i <= hi; i++ {
-		if c.m[i%c.cap] <= lo+tol {
+		if c.m[i&c.mask] <= lo+tol {
 			return i
 		}
 	}
@@ -408,10 +419,12 @@ func (c *core) onsetAt(from int, tol float64) int {
 	lo := max(from, c.n-int(math.Max(2, 1.5*c.medTi)*c.fs))
 	fl := math.Inf(1)
 	for j := lo; j <= c.n; j++ {
-		fl = math.Min(fl, c.m[j%c.cap])
+		if v := c.m[j&c.mask]; v < fl {
+			fl = v
+		}
 	}
 	for j := c.n; j >= lo; j-- {
-		if c.m[j%c.cap] <= fl+tol {
+		if c.m[j&c.mask] <= fl+tol {
 			return j
 		}
 	}
@@ -425,7 +438,7 @@ func (c *core) rise(ref float64) {
 	tol := c.o.PauseTolFrac * ref
 	if c.peak >= 0 {
 		from = c.peak
-		tol = c.o.PauseTolFrac * (c.m[c.peak%c.cap] - c.m[tr%c.cap])
+		tol = c.o.PauseTolFrac * (c.m[c.peak&c.mask] - c.m[tr&c.mask])
 	} else if c.quietFrom >= 0 {
 		from = c.quietFrom
 	}
@@ -455,7 +468,7 @@ func (c *core) rise(ref float64) {
 // forcePause ends the pending breath when the pause after it outgrows the
 // buffer; the pause continues as excursion spans.
 func (c *core) forcePause(ref float64) {
-	tol := c.o.PauseTolFrac * (c.m[c.peak%c.cap] - c.m[c.ext%c.cap])
+	tol := c.o.PauseTolFrac * (c.m[c.peak&c.mask] - c.m[c.ext&c.mask])
 	endExp := c.endExpAt(c.peak, c.n, tol)
 	c.finish(c.onset, c.peak, endExp, c.n, ref, true)
 	c.onset, c.peak = -1, -1
@@ -480,9 +493,9 @@ func (c *core) emitQuiet(i, j int) {
 func (c *core) sdExc(x []float64, i, j int) float64 {
 	var s, ss float64
 	n := float64(j - i + 1)
-	x0 := x[i%c.cap]
+	x0 := x[i&c.mask]
 	for k := i; k <= j; k++ {
-		v := x[k%c.cap] - x0
+		v := x[k&c.mask] - x0
 		s += v
 		ss += v * v
 	}
@@ -493,9 +506,13 @@ func (c *core) sdExc(x []float64, i, j int) float64 {
 func (c *core) p2p(x []float64, i, j int) float64 {
 	hi, lo := math.Inf(-1), math.Inf(1)
 	for k := i; k <= j; k++ {
-		v := x[k%c.cap]
-		hi = math.Max(hi, v)
-		lo = math.Min(lo, v)
+		v := x[k&c.mask]
+		if v > hi {
+			hi = v
+		}
+		if v < lo {
+			lo = v
+		}
 	}
 	return hi - lo
 }
@@ -503,7 +520,7 @@ func (c *core) p2p(x []float64, i, j int) float64 {
 // finish emits the breath onset..peak..endExp whose next onset is next, or
 // turns it into excursion spans when it fails the acceptance tests.
 func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
-	vt := c.m[pk%c.cap] - c.m[on%c.cap]
+	vt := c.m[pk&c.mask] - c.m[on&c.mask]
 	ti := float64(pk-on) / c.fs
 	te := float64(endExp-pk) / c.fs
 	if endExp-on < c.minBreathN || pk <= on || endExp <= pk || !(vt >= 2*c.o.HysteresisFrac*ref) {
@@ -516,8 +533,8 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 		PauseS: float64(next-endExp) / c.fs,
 		TiS:    ti, TeS: te, TtotS: ti + te,
 		VtAU: vt, VtL: math.NaN(), FlowLs: math.NaN(),
-		RibRise: c.rl[pk%c.cap] - c.rl[on%c.cap],
-		AbdRise: c.al[pk%c.cap] - c.al[on%c.cap],
+		RibRise: c.rl[pk&c.mask] - c.rl[on&c.mask],
+		AbdRise: c.al[pk&c.mask] - c.al[on&c.mask],
 	}
 	b.TiTtot = b.TiS / b.TtotS
 	b.RatePerMin = 60 / b.TtotS
@@ -530,8 +547,7 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 	// relaxation after a last breath would look like effort).
 	b.RibExcAU = c.a * c.p2p(c.rl, on, endExp)
 	b.AbdExcAU = c.b * c.p2p(c.al, on, endExp)
-	b.PhaseXcorrDeg = c.xcorrPhase(on, endExp)
-	b.PhaseLissajousDeg = c.lissajous(on, endExp)
+	b.PhaseXcorrDeg, b.PhaseLissajousDeg = c.phases(on, endExp)
 	ph := math.Abs(b.PhaseXcorrDeg)
 	if math.IsNaN(ph) {
 		ph = b.PhaseLissajousDeg
@@ -542,8 +558,8 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 	var fl uint8
 	var e2 float64
 	for i := on; i <= endExp; i++ {
-		fl |= c.flag[i%c.cap]
-		e2 += c.hf2[i%c.cap]
+		fl |= c.flag[i&c.mask]
+		e2 += c.hf2[i&c.mask]
 	}
 	if fl&flagClip != 0 {
 		b.Quality |= QualityClipping

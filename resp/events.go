@@ -260,47 +260,54 @@ func timeline(r Result) []span {
 	return tl
 }
 
-// baseline keeps the stable breaths of the last span seconds.
+// baseline keeps the stable breaths of the last span seconds, with their
+// excursions also held sorted so a median costs a binary search and a copy.
 type baseline struct {
-	span       float64
-	t, v, band []float64
-	lo         int
-	version    int
-	cacheVer   int
-	cacheLo    int
-	m, mb      float64
-	buf        []float64
+	span          float64
+	t, v, band    []float64
+	lo            int
+	sortV, sortBd []float64
 }
 
-func newBaseline(span float64) *baseline { return &baseline{span: span, cacheVer: -1} }
+func newBaseline(span float64) *baseline { return &baseline{span: span} }
 
 func (b *baseline) add(t, v, band float64) {
 	b.t = append(b.t, t)
 	b.v = append(b.v, v)
 	b.band = append(b.band, band)
-	b.version++
+	b.sortV = insertSorted(b.sortV, v)
+	b.sortBd = insertSorted(b.sortBd, band)
+}
+
+func insertSorted(s []float64, v float64) []float64 {
+	i := sort.SearchFloat64s(s, v)
+	s = append(s, 0)
+	copy(s[i+1:], s[i:])
+	s[i] = v
+	return s
+}
+
+func removeSorted(s []float64, v float64) []float64 {
+	i := sort.SearchFloat64s(s, v)
+	if i < len(s) && s[i] == v {
+		s = append(s[:i], s[i+1:]...)
+	}
+	return s
 }
 
 // at returns the median excursion, median band excursion and count of the
 // stable breaths in [t-span, t).
 func (b *baseline) at(t float64) (float64, float64, int) {
 	for b.lo < len(b.t) && b.t[b.lo] < t-b.span {
+		b.sortV = removeSorted(b.sortV, b.v[b.lo])
+		b.sortBd = removeSorted(b.sortBd, b.band[b.lo])
 		b.lo++
 	}
 	n := len(b.t) - b.lo
 	if n == 0 {
 		return math.NaN(), math.NaN(), 0
 	}
-	if b.cacheVer != b.version || b.cacheLo != b.lo {
-		b.buf = append(b.buf[:0], b.v[b.lo:]...)
-		sort.Float64s(b.buf)
-		b.m = mid(b.buf)
-		b.buf = append(b.buf[:0], b.band[b.lo:]...)
-		sort.Float64s(b.buf)
-		b.mb = mid(b.buf)
-		b.cacheVer, b.cacheLo = b.version, b.lo
-	}
-	return b.m, b.mb, n
+	return mid(b.sortV), mid(b.sortBd), n
 }
 
 func mid(s []float64) float64 {

@@ -43,24 +43,26 @@ func PhaseLissajous(rib, abd []float64) (float64, error) {
 	return ph, nil
 }
 
-func (c *core) segment(dst, x []float64, i, j int) []float64 {
+// phaseStride is the decimation of the per-breath phase signals: to about
+// 25 Hz, ample for a band low-passed at 2 Hz, and it keeps the per-breath
+// cost small.
+func (c *core) phaseStride() int { return max(1, int(c.fs/25)) }
+
+func (c *core) segment(dst, x []float64, i, j, stride int) []float64 {
 	dst = dst[:0]
-	for k := i; k <= j; k++ {
-		dst = append(dst, x[k%c.cap])
+	for k := i; k <= j; k += stride {
+		dst = append(dst, x[k&c.mask])
 	}
 	return dst
 }
 
-func (c *core) xcorrPhase(i, j int) float64 {
-	c.bufR = c.segment(c.bufR, c.rf, i, j)
-	c.bufA = c.segment(c.bufA, c.af, i, j)
-	return xcorrPhase(c.bufR, c.bufA, c.fs, float64(j-i)/c.fs)
-}
-
-func (c *core) lissajous(i, j int) float64 {
-	c.bufR = c.segment(c.bufR, c.rf, i, j)
-	c.bufA = c.segment(c.bufA, c.af, i, j)
-	return lissajousPhase(c.bufR, c.bufA)
+// phases returns the cross-correlation and Lissajous phase of samples i..j.
+func (c *core) phases(i, j int) (xc, lis float64) {
+	st := c.phaseStride()
+	c.bufR = c.segment(c.bufR, c.rf, i, j, st)
+	c.bufA = c.segment(c.bufA, c.af, i, j, st)
+	fs := c.fs / float64(st)
+	return xcorrPhase(c.bufR, c.bufA, fs, float64(j-i)/c.fs), lissajousPhase(c.bufR, c.bufA)
 }
 
 // pearsonLag is Pearson's r between x[i] and y[i+k] over the overlap,
@@ -110,15 +112,24 @@ func xcorrPhase(x, y []float64, fs, period float64) float64 {
 		return math.NaN()
 	}
 	if step > 1 {
-		c := best
-		bestR = math.Inf(-1)
-		for k := max(-maxLag, c-step); k <= min(maxLag, c+step); k++ {
-			if r := pearsonLag(x, y, k, 1); r > bestR {
+		// Refine at full resolution by hill-climbing from the coarse peak
+		// (the correlation is smooth in the lag), at most step moves.
+		bestR = pearsonLag(x, y, best, 1)
+		if math.IsNaN(bestR) {
+			return math.NaN()
+		}
+		for dir := -1; dir <= 1; dir += 2 {
+			for m := 0; m < step; m++ {
+				k := best + dir
+				if k < -maxLag || k > maxLag {
+					break
+				}
+				r := pearsonLag(x, y, k, 1)
+				if !(r > bestR) {
+					break
+				}
 				best, bestR = k, r
 			}
-		}
-		if math.IsInf(bestR, -1) {
-			return math.NaN()
 		}
 	}
 	lag := float64(best)
@@ -141,8 +152,18 @@ func lissajousPhase(y, x []float64) float64 {
 	xmax, xmin := math.Inf(-1), math.Inf(1)
 	var mx, my float64
 	for i := range x {
-		ymax, ymin = math.Max(ymax, y[i]), math.Min(ymin, y[i])
-		xmax, xmin = math.Max(xmax, x[i]), math.Min(xmin, x[i])
+		if y[i] > ymax {
+			ymax = y[i]
+		}
+		if y[i] < ymin {
+			ymin = y[i]
+		}
+		if x[i] > xmax {
+			xmax = x[i]
+		}
+		if x[i] < xmin {
+			xmin = x[i]
+		}
 		mx += x[i]
 		my += y[i]
 	}
