@@ -320,6 +320,16 @@ func (a *Analysis) fromTable(cfg features.Config) {
 			act.Posture = append(act.Posture, p)
 		}
 	}
+	// Ventilation trends from the breathing family: litres when the table
+	// has them (absolute calibration), arbitrary units otherwise.
+	tr := &in.Trends
+	tr.TimeS = times
+	tr.RatePerMn = t.Float("resp_rate_per_min")
+	tr.HRbpm = t.Float("mean_hr_bpm")
+	tr.VE, tr.VEUnit = t.Float("ve_l_min"), "L/min"
+	if absent(tr.VE) {
+		tr.VE, tr.VEUnit = t.Float("ve_au_min"), "AU/min"
+	}
 	// Quality strip: one row per family, one cell per row step ending at
 	// the row time. The score is the family's coverage, halved when some of
 	// its values are missing (reason set), NaN when the family is absent.
