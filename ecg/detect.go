@@ -454,6 +454,20 @@ func (c *core) endSegment() {
 	if c.inGap {
 		return
 	}
+	// An integrator still rising at the last sample is a peak cut by the
+	// end of the segment: the QRS is complete when the integrator has risen
+	// for intN samples, so it is taken as a candidate then.
+	last := c.n - 1
+	if c.m1 > c.m2 && last-c.intN/2 >= c.seg {
+		if !c.pending || last-c.pk > c.refN {
+			if c.pending {
+				c.finalize(c.pk, c.pv)
+			}
+			c.pending, c.pk, c.pv = true, last, c.m1
+		} else if c.m1 > c.pv {
+			c.pk, c.pv = last, c.m1
+		}
+	}
 	if c.pending {
 		c.finalize(c.pk, c.pv)
 		c.pending = false
