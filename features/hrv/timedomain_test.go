@@ -232,3 +232,12 @@ func randomNN(seed uint64, n int) []float64 {
 	}
 	return nn
 }
+
+// Mean HR is 60000 / mean NN; min and max come from the longest and
+// shortest interval (derived from the definitions in HeartRate's doc).
+func TestHeartRate(t *testing.T) {
+	mean, lo, hi, err := HeartRate([]float64{600, 1000, 750})
+	if err != nil || !near(mean, 60000/(2350.0/3), 1e-9) || !near(lo, 60, 1e-12) || !near(hi, 100, 1e-12) {
+		t.Errorf("HeartRate = %v %v %v (%v), want %v 60 100", mean, lo, hi, err, 60000/(2350.0/3))
+	}
+}
