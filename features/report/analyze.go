@@ -331,10 +331,30 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		tr.VE, tr.VEUnit = t.Float("ve_au_min"), "AU/min"
 	}
 	// Quality strip: one row per family, one cell per row step ending at
-	// the row time. The score is the family's coverage, halved when some of
-	// its values are missing (reason set), NaN when the family is absent.
-	for _, fam := range []struct{ name, label string }{
-		{features.FamilyHRV, "ECG / HRV"}, {features.FamilyBreathing, "breathing"}, {features.FamilyActivity, "motion"},
+	// the row time. The score is the family's coverage times the share of
+	// its events that needed no correction: 1 - hrv_corrected_frac for the
+	// ECG, resp_clean_breaths_n / resp_breaths_n for the bands; the
+	// accelerometer's is its coverage. NaN (grey) when the family is absent.
+	frac := func(num, den []float64, invert bool) []float64 {
+		out := make([]float64, len(times))
+		for i := range out {
+			out[i] = 1
+			switch {
+			case invert && num != nil && isFinite(num[i]):
+				out[i] = 1 - num[i]
+			case !invert && num != nil && den != nil && den[i] > 0:
+				out[i] = num[i] / den[i]
+			}
+		}
+		return out
+	}
+	for _, fam := range []struct {
+		name, label string
+		clean       []float64
+	}{
+		{features.FamilyHRV, "ECG / HRV", frac(t.Float("hrv_corrected_frac"), nil, true)},
+		{features.FamilyBreathing, "breathing", frac(t.Float("resp_clean_breaths_n"), t.Float("resp_breaths_n"), false)},
+		{features.FamilyActivity, "motion", frac(nil, nil, false)},
 	} {
 		cov, why := t.Float(fam.name+"_coverage_frac"), t.Strings(fam.name+"_reason")
 		if cov == nil {
@@ -345,11 +365,7 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		}
 		q := QualityRow{Family: fam.label}
 		for i, x := range times {
-			s := cov[i]
-			if why != nil && why[i] != "" && isFinite(s) {
-				s *= 0.5
-			}
-			q.TimeS, q.EndS, q.Score = append(q.TimeS, x-stepS), append(q.EndS, x), append(q.Score, s)
+			q.TimeS, q.EndS, q.Score = append(q.TimeS, x-stepS), append(q.EndS, x), append(q.Score, cov[i]*fam.clean[i])
 		}
 		in.Quality = append(in.Quality, q)
 	}
