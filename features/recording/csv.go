@@ -62,20 +62,23 @@ type CSVOptions struct {
 // ResampleReport says how irregular timestamps were put on a uniform grid and
 // how irregular they were. Times are seconds.
 type ResampleReport struct {
-	Method        string  // "linear interpolation onto a uniform grid"
-	RateHz        float64 // output rate
-	SourceSamples int     // rows read
-	Duplicates    int     // rows whose timestamp repeated the row before: their values were averaged into it
-	OutputSamples int     // samples per channel after resampling
-	MedianS       float64 // median interval between timestamps
-	MeanS         float64 // mean interval
-	SDS           float64 // standard deviation of the intervals (jitter)
-	MinS, MaxS    float64 // shortest and longest interval
+	Method        string  `json:"method"`         // "linear interpolation onto a uniform grid"
+	RateHz        float64 `json:"rate_hz"`        // output rate
+	SourceSamples int     `json:"source_samples"` // rows read
+	// Duplicates counts rows whose timestamp repeated the row before:
+	// their values were averaged into it.
+	Duplicates    int     `json:"duplicates"`
+	OutputSamples int     `json:"output_samples"` // samples per channel after resampling
+	MedianS       float64 `json:"median_interval_s"`
+	MeanS         float64 `json:"mean_interval_s"`
+	SDS           float64 `json:"sd_interval_s"` // standard deviation of the intervals (jitter)
+	MinS          float64 `json:"min_interval_s"`
+	MaxS          float64 `json:"max_interval_s"`
 	// MaxJitterS is the largest |interval - median| among intervals that
 	// are not gaps.
-	MaxJitterS float64
-	Gaps       int     // intervals longer than GapFactor medians, left as NaN
-	GapS       float64 // total time inside those gaps
+	MaxJitterS float64 `json:"max_jitter_s"`
+	Gaps       int     `json:"gaps"`  // intervals longer than GapFactor medians, left as NaN
+	GapS       float64 `json:"gap_s"` // total time inside those gaps
 }
 
 // uniformTolerance is the relative interval deviation below which CSV
