@@ -501,6 +501,14 @@ func (w *work) frequencyDomain(m *Metrics, nn, endS []float64, opt Options, min 
 			}
 			return math.NaN()
 		}
+		if bd.Hi <= psd.ResolutionHz {
+			r := fmt.Sprintf("band up to %g Hz not resolved by the %s estimate (resolution %.3g Hz)", bd.Hi, psd.Estimator, psd.ResolutionHz)
+			m.undefined(col, r)
+			if peakCol != "" {
+				m.undefined(peakCol, r)
+			}
+			return math.NaN()
+		}
 		p := psd.BandPower(bd)
 		m.set(col, p, nil)
 		if peakCol != "" {

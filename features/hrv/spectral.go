@@ -105,11 +105,16 @@ type SpectrumOptions struct {
 	Order int
 	// MaxHz is the highest frequency of the Lomb and Burg grids; 0.5 when
 	// zero. StepHz is their grid step: 1/(4 T) for Lomb (T the series span,
-	// four-fold oversampling) and 0.0005 Hz for Burg when zero (AR peaks can
+	// four-fold oversampling; Lomb refuses more than 3e8 samples x
+	// frequencies, e.g. day-long windows: use Welch there) and 0.0005 Hz for Burg when zero (AR peaks can
 	// be much narrower than the Welch resolution; band powers are sums over
 	// the grid, so the grid must resolve them).
 	MaxHz, StepHz float64
 }
+
+// maxLombWork bounds samples x frequencies of one Lomb-Scargle evaluation
+// (about a second of work).
+const maxLombWork = 3e8
 
 // PSD is a one-sided power spectral density of an NN series on a uniform
 // frequency grid FreqHz[k] = k * StepHz (k from 0 for Welch and Burg, from 1
@@ -119,6 +124,11 @@ type PSD struct {
 	Power     []float64 // ms^2/Hz
 	StepHz    float64
 	Estimator Estimator
+	// ResolutionHz is the finest frequency detail the estimate carries:
+	// ResampleHz/Segment for Welch (zero padding refines the grid, not
+	// the resolution), 1/T for Lomb and Burg (T the series span). Compute
+	// reports a band whose upper edge is not above it as undefined.
+	ResolutionHz float64
 }
 
 // BandPower returns the power in lo < f <= hi (ms^2): the sum of
@@ -248,7 +258,7 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 			if err != nil {
 				return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
 			}
-			return PSD{FreqHz: f, Power: p, StepHz: f[1] - f[0], Estimator: Welch}, nil
+			return PSD{FreqHz: f, Power: p, StepHz: f[1] - f[0], Estimator: Welch, ResolutionHz: fs / float64(min(seg, len(z)))}, nil
 		}
 		order := opt.Order
 		if order == 0 {
@@ -266,13 +276,13 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 		}
 		freqs := grid(0, step, math.Min(maxHz, fs/2))
 		if allZero(z) {
-			return PSD{FreqHz: freqs, Power: make([]float64, len(freqs)), StepHz: step, Estimator: Burg}, nil
+			return PSD{FreqHz: freqs, Power: make([]float64, len(freqs)), StepHz: step, Estimator: Burg, ResolutionHz: 1 / span}, nil
 		}
 		a, v, err := dsp.Burg(z, order)
 		if err != nil {
 			return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
 		}
-		return PSD{FreqHz: freqs, Power: dsp.ARSpectrum(nil, a, v, fs, freqs), StepHz: step, Estimator: Burg}, nil
+		return PSD{FreqHz: freqs, Power: dsp.ARSpectrum(nil, a, v, fs, freqs), StepHz: step, Estimator: Burg, ResolutionHz: 1 / span}, nil
 	case Lomb:
 		if !(span > 0) {
 			return PSD{}, fmt.Errorf("hrv: spectrum: span %v s: %w", span, ErrTooFew)
@@ -291,8 +301,12 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 		if step == 0 {
 			step = 1 / (4 * span)
 		}
-		if !(step > 0) || maxHz/step > 1e6 {
-			return PSD{}, fmt.Errorf("hrv: Lomb grid step %v Hz up to %v Hz: %w", step, maxHz, ErrInput)
+		// Bound the work (samples x frequencies) so that day-long windows
+		// cannot run for minutes. The grid is not coarsened instead: sums
+		// over a grid coarser than 1/T miss or inflate spectral lines.
+		if !(step > 0) || maxHz/step > 1e6 || float64(len(endS))*maxHz/step > maxLombWork {
+			return PSD{}, fmt.Errorf("hrv: Lomb-Scargle of %d samples on a %.3g Hz grid up to %v Hz exceeds %g evaluations (use Welch or shorter windows): %w",
+				len(endS), step, maxHz, maxLombWork, ErrInput)
 		}
 		freqs := grid(step, step, maxHz)
 		// Times relative to the first sample keep the phases accurate.
@@ -307,7 +321,7 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 		for k := range p {
 			p[k] *= 2 * tbar
 		}
-		return PSD{FreqHz: freqs, Power: p, StepHz: step, Estimator: Lomb}, nil
+		return PSD{FreqHz: freqs, Power: p, StepHz: step, Estimator: Lomb, ResolutionHz: 1 / span}, nil
 	}
 	return PSD{}, fmt.Errorf("hrv: unknown estimator %d: %w", int(opt.Estimator), ErrInput)
 }

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 )
 
@@ -112,5 +113,23 @@ func TestSpectrumBadInput(t *testing.T) {
 	}
 	if _, err := Spectrum(randomNN(1, 100), nil, SpectrumOptions{Estimator: Lomb, StepHz: 1e-9}); !errors.Is(err, ErrInput) {
 		t.Errorf("huge Lomb grid: %v, want ErrInput (bounded)", err)
+	}
+	// A day of beats: Lomb-Scargle refuses rather than run for minutes.
+	if _, err := Spectrum(randomNN(2, 100000), nil, SpectrumOptions{Estimator: Lomb}); !errors.Is(err, ErrInput) {
+		t.Errorf("day-long Lomb: %v, want ErrInput (bounded work)", err)
+	}
+}
+
+// A band below the estimator's resolution is undefined, not 0: 64-s Welch
+// segments resolve 1/64 Hz, far above the ULF band (<= 0.003 Hz).
+func TestBandBelowResolution(t *testing.T) {
+	nn, end := sinusoidNN(1200, []float64{20}, []float64{0.1})
+	m := Compute(nn, end, Options{Min: MinData{ULFSpanS: 600}})
+	if !math.IsNaN(m.ULFms2) || !strings.Contains(m.Reasons["ulf_ms2"], "resol") {
+		t.Errorf("ULF %v (%q), want NaN: not resolved", m.ULFms2, m.Reasons["ulf_ms2"])
+	}
+	m = Compute(nn, end, Options{Min: MinData{ULFSpanS: 600}, Spectrum: SpectrumOptions{Segment: 4096}})
+	if math.IsNaN(m.ULFms2) {
+		t.Errorf("ULF with 1024-s segments: %v (%s), want a value", m.ULFms2, m.Reasons["ulf_ms2"])
 	}
 }
