@@ -87,7 +87,8 @@ type SpectrumOptions struct {
 	Detrend   Detrending // SmoothnessPriors when zero
 	// Lambda is the smoothness-priors parameter; 500 when zero (with 4 Hz
 	// resampling its high-pass |H| = 0.707 lies near 0.035 Hz, methods.md
-	// 2.6, computed; the pairing is commonly used, from memory). For Lomb
+	// 2.6, computed; the pairing is commonly used, from memory), scaled by
+	// (ResampleHz/4)^2 at other rates to keep that corner. For Lomb
 	// the series is detrended by beat index, and the default is scaled to
 	// the same corner frequency: 500 (1/(4 T))^2 with T the mean interval
 	// in s (the response depends on lambda^2 sin^4(pi f/fs), so equal
@@ -236,7 +237,7 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 		w.y = sp.Sample(w.y[:0], endS[0], fs, n)
 		lam := opt.Lambda
 		if lam == 0 {
-			lam = 500
+			lam = 500 * (fs / 4) * (fs / 4) // same corner at any rate (see Lambda)
 		}
 		z, err := w.detrend(w.y, opt.Detrend, lam)
 		if err != nil {
