@@ -18,6 +18,7 @@ import (
 	"sort"
 	"strings"
 	"testing"
+	"time"
 )
 
 var update = flag.Bool("update", false, "rewrite the generated fixtures in testdata/")
@@ -102,6 +103,42 @@ func fixtureFiles() map[string][]byte {
 	var atr bytes.Buffer
 	WriteWFDBAnnotations(&atr, fixtureAnnotations(), 250)
 	files["annonly.atr"] = atr.Bytes()
+
+	// run.edf: 4 s of an invented trail run (ECG at 100 Hz, rib-cage band
+	// at 10 Hz) with two annotations, written by WriteEDF; used by the
+	// examples.
+	run := &Recording{Name: "run", Start: time.Date(2026, 6, 1, 6, 30, 0, 0, time.UTC), StartKnown: true}
+	ecg := make([]float64, 400)
+	for i := range ecg {
+		ecg[i] = math.Round(1000*math.Exp(-math.Pow(math.Mod(float64(i)/100, 0.5)-0.25, 2)/0.0005)) / 1000
+	}
+	rc := make([]float64, 40)
+	for i := range rc {
+		rc[i] = math.Round(1000*math.Sin(2*math.Pi*0.5*float64(i)/10)) / 1000
+	}
+	run.Channels = []Channel{{Name: "ECG", Unit: "mV", RateHz: 100, Samples: ecg}, {Name: "Resp chest", Unit: "V", RateHz: 10, Samples: rc}}
+	run.Annotations = []Annotation{{Time: 0.5, Sample: -1, Text: "interval start"}, {Time: 3, Duration: 1, Sample: -1, Text: "cool-down"}}
+	var edf bytes.Buffer
+	if err := WriteEDF(&edf, run, EDFWriteOptions{}); err != nil {
+		panic(err)
+	}
+	files["run.edf"] = edf.Bytes()
+
+	// watch.csv: an invented watch export with jittered timestamps.
+	var csvb strings.Builder
+	csvb.WriteString("# made by fixtures_test.go: go test ./features/recording -run TestFixtures -update\n")
+	csvb.WriteString("timestamp,acc_x[m/s2],acc_y[m/s2],acc_z[m/s2],activity\n")
+	base := time.Date(2026, 6, 1, 6, 45, 0, 0, time.UTC)
+	jitter := []int{0, 0, 0, 3, 0, 0, 0, -2, 0, 0}
+	for i := 0; i < 50; i++ {
+		ts := base.Add(time.Duration(i*20+jitter[i%10]) * time.Millisecond)
+		act := "walk"
+		if i >= 25 {
+			act = "run"
+		}
+		fmt.Fprintf(&csvb, "%s,%.3f,%.3f,%.3f,%s\n", ts.Format("2006-01-02T15:04:05.000Z"), 0.1*float64(i%5), 0.2, 9.81, act)
+	}
+	files["watch.csv"] = []byte(csvb.String())
 	return files
 }
 
