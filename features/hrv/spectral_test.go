@@ -133,3 +133,16 @@ func TestBandBelowResolution(t *testing.T) {
 		t.Errorf("ULF with 1024-s segments: %v (%s), want a value", m.ULFms2, m.Reasons["ulf_ms2"])
 	}
 }
+
+// Other resampling rates keep the result (methods.md 2.6: 2-10 Hz seen in
+// practice): LF of the 50 ms, 0.1 Hz modulation stays A^2/2 = 1250 ms^2
+// (derived), the default lambda following the rate.
+func TestResampleRates(t *testing.T) {
+	nn, end := sinusoidNN(300, []float64{50}, []float64{0.1})
+	for _, fs := range []float64{2, 8} {
+		m := Compute(nn, end, Options{Spectrum: SpectrumOptions{ResampleHz: fs}})
+		if !near(m.LFms2, 1250, 0.05*1250) {
+			t.Errorf("%v Hz: LF %v, want 1250 +- 5 %% (derived)", fs, m.LFms2)
+		}
+	}
+}
