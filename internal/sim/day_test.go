@@ -164,6 +164,51 @@ func TestDaySimulate(t *testing.T) {
 	if x := mean(d.AccX, 6000, 7000); x > -0.9 {
 		t.Errorf("late nap: mean x %.2f g, want left side (< -0.9 g)", x)
 	}
+	// Bands: the lung volume recovered with the true weights (1/gain per
+	// band, the two-compartment model of Konno and Mead 1967 as the
+	// breathing simulator renders it) barely moves in an obstructive apnea:
+	// its peak-to-peak there is under 10 % of that of the minute before
+	// (the AASM apnea criterion is a drop of at least 90 %, Berry et al.
+	// 2012), while each band alone keeps moving with the effort.
+	if len(d.RibCage) != int(DayDurationS*DayBandRateHz) || len(d.Abdomen) != len(d.RibCage) {
+		t.Fatalf("bands: %d and %d samples, want %d", len(d.RibCage), len(d.Abdomen), int(DayDurationS*DayBandRateHz))
+	}
+	// ptp is the peak-to-peak after removing the least-squares line, so the
+	// simulator's slow baseline drift does not count as breathing.
+	ptp := func(v []float64) float64 {
+		n := float64(len(v))
+		var sx, sy, sxx, sxy float64
+		for i, y := range v {
+			x := float64(i)
+			sx, sy, sxx, sxy = sx+x, sy+y, sxx+x*x, sxy+x*y
+		}
+		b := (n*sxy - sx*sy) / (n*sxx - sx*sx)
+		c := (sy - b*sx) / n
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for i, y := range v {
+			r := y - (c + b*float64(i))
+			lo, hi = math.Min(lo, r), math.Max(hi, r)
+		}
+		return hi - lo
+	}
+	vol := func(from, to float64) (sum, rib []float64) {
+		for i := int(from * DayBandRateHz); i < int(to*DayBandRateHz); i++ {
+			rg, ag := dayBandGains(tr.Posture[int(float64(i)/DayBandRateHz)])
+			sum = append(sum, d.RibCage[i]/rg+d.Abdomen[i]/ag)
+			rib = append(rib, d.RibCage[i])
+		}
+		return sum, rib
+	}
+	for _, a := range tr.Apneas {
+		during, ribDuring := vol(a.StartS+1, a.EndS-1)
+		before, ribBefore := vol(a.StartS-60, a.StartS)
+		if r := ptp(during) / ptp(before); r > 0.1 {
+			t.Errorf("apnea at %.0f s: volume peak-to-peak %.2f of the minute before, want < 0.1", a.StartS, r)
+		}
+		if r := ptp(ribDuring) / ptp(ribBefore); r < 0.3 {
+			t.Errorf("apnea at %.0f s: rib-cage band moves only %.2f of before, want effort (> 0.3)", a.StartS, r)
+		}
+	}
 	d2, err := DaySimulate(1)
 	if err != nil {
 		t.Fatal(err)
