@@ -69,6 +69,10 @@ func runActivity(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	rate := axes[0].RateHz
+	if rate < motion.MinRateHz || rate > motion.MaxRateHz {
+		return fmt.Errorf("accelerometer at %g Hz, outside %d..%d Hz (for CSV input, check the unit of the time column, e.g. a header \"timestamp[ms]\"): %w",
+			rate, motion.MinRateHz, motion.MaxRateHz, motion.ErrInput)
+	}
 	for _, c := range axes[1:] {
 		if c.RateHz != rate {
 			return fmt.Errorf("accelerometer channels %q at %v Hz and %q at %v Hz: resample them to one rate first", axes[0].Name, rate, c.Name, c.RateHz)
