@@ -83,3 +83,50 @@ func ExampleWindowed() {
 	// 14:00  N 374  mean NN 800 ms  SDNN 0 ms
 	// 14:05  N 374  mean NN 800 ms  SDNN 0 ms
 }
+
+// The PSD behind the frequency measures, for plotting: 30 ms of respiratory
+// modulation at 0.25 Hz shows as the HF peak, with HF ~ 30^2/2 = 450 ms2
+// (methods.md 2.7, derived).
+func ExampleSpectrum() {
+	var nn, end []float64
+	t := 0.0
+	for t < 300 {
+		v := 900 + 30*math.Sin(2*math.Pi*0.25*t)
+		t += v / 1000
+		nn = append(nn, v)
+		end = append(end, t)
+	}
+	psd, err := hrv.Spectrum(nn, end, hrv.SpectrumOptions{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("%s: %d bins of %.4f Hz, resolution %.4f Hz\n", psd.Estimator, len(psd.FreqHz), psd.StepHz, psd.ResolutionHz)
+	fmt.Printf("peak %.3f Hz, HF %.0f ms2\n", psd.Peak(hrv.TaskForceBands.HF), psd.BandPower(hrv.TaskForceBands.HF))
+	// Output:
+	// welch: 513 bins of 0.0039 Hz, resolution 0.0156 Hz
+	// peak 0.250 Hz, HF 442 ms2
+}
+
+// Live use: push intervals as beats arrive, read windows as they close.
+func ExampleStream() {
+	g, _ := window.NewGrid(window.Spec{Length: time.Minute, Step: time.Minute, Anchor: window.AnchorStart},
+		time.Date(2026, 6, 1, 7, 30, 0, 0, time.UTC))
+	s, _ := hrv.NewStream(g, hrv.Options{})
+	t := 0.0
+	for i := 0; t < 180; i++ {
+		v := 750.0
+		if i%2 == 1 {
+			v = 790
+		}
+		t += v / 1000
+		_ = s.Push(hrv.Interval{EndS: t, NNms: v})
+		for w, m := range s.Ready() {
+			fmt.Printf("%s RMSSD %.0f ms\n", w.EndUTC.Format("15:04"), m.RMSSDms)
+		}
+	}
+	// Output:
+	// 07:31 RMSSD 40 ms
+	// 07:32 RMSSD 40 ms
+	// 07:33 RMSSD 40 ms
+}
