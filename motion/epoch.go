@@ -90,6 +90,21 @@ type Epoch struct {
 	ArtefactReason string
 }
 
+// Counts returns the epoch's activity counts in mode m: mg·s for
+// CountsPIM, crossings for CountsZC, seconds for CountsTAT; NaN for an
+// unknown mode.
+func (e Epoch) Counts(m CountMode) float64 {
+	switch m {
+	case CountsPIM:
+		return e.CountsPIMmgs
+	case CountsZC:
+		return float64(e.CountsZC)
+	case CountsTAT:
+		return e.CountsTATs
+	}
+	return math.NaN()
+}
+
 // Columns returns the column names of Values, units in each name.
 func Columns() []string {
 	return []string{

@@ -128,7 +128,10 @@ func TestCountsSinusoidDerived(t *testing.T) {
 	// 1 %) is not averaged.
 	near(t, "PIM mg·s", e.CountsPIMmgs, 1000*m*60, 0.01*1000*m*60)
 	near(t, "TAT s", e.CountsTATs, 60*above/q, 0.3)
-	if zc := float64(e.CountsZC); math.Abs(zc-2*f*60) > 1.5 {
+	if e.Counts(motion.CountsPIM) != e.CountsPIMmgs || e.Counts(motion.CountsTAT) != e.CountsTATs || !math.IsNaN(e.Counts(motion.CountMode(9))) {
+		t.Error("Epoch.Counts does not pick the mode's value")
+	}
+	if zc := e.Counts(motion.CountsZC); math.Abs(zc-2*f*60) > 1.5 {
 		t.Errorf("zero crossings %d, want %.1f ± 1.5 (2 per cycle)", e.CountsZC, 2*f*60)
 	}
 	// Above the pass band counts fall: 4 Hz of the same amplitude gives far

@@ -148,8 +148,8 @@ func (m Mount) Validate() error {
 	return nil
 }
 
-// CountMode selects how the band-passed, rectified signal becomes activity
-// counts; every epoch reports all three, the mode names them.
+// CountMode names one way the band-passed, rectified signal becomes
+// activity counts. Every epoch carries all three; Epoch.Counts picks one.
 type CountMode int
 
 // Count modes of classic actigraphy.
