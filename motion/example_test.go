@@ -133,3 +133,31 @@ func ExampleNonWear() {
 	// Output:
 	// not worn from 0 s to 7200 s
 }
+
+func ExampleCalibrate() {
+	// A device with a +0.02 g offset on y and a 3 % gain error on z, held
+	// still for 20 s in each of 26 orientations (10 Hz).
+	var x, y, z []float64
+	for a := -1.0; a <= 1; a++ {
+		for b := -1.0; b <= 1; b++ {
+			for c := -1.0; c <= 1; c++ {
+				n := math.Sqrt(a*a + b*b + c*c)
+				if n == 0 {
+					continue
+				}
+				for i := 0; i < 200; i++ {
+					x, y, z = append(x, a/n), append(y, b/n-0.02), append(z, c/n/1.03)
+				}
+			}
+		}
+	}
+	cal, err := motion.Calibrate(x, y, z, 10, motion.UnitG, motion.CalibrationOptions{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("offset %.3f %.3f %.3f g, scale %.3f %.3f %.3f, from %d still windows\n",
+		cal.OffsetG[0], cal.OffsetG[1], cal.OffsetG[2], cal.Scale[0], cal.Scale[1], cal.Scale[2], cal.Points)
+	// Output:
+	// offset 0.000 0.020 0.000 g, scale 1.000 1.000 1.030, from 52 still windows
+}
