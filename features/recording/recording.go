@@ -251,21 +251,26 @@ type Options struct {
 }
 
 // Open reads the recording at path with default Options. The format follows
-// from the name: ".edf", ".bdf" and ".csv" (any case) name those formats;
-// anything else is a WFDB record, given with or without ".hea".
+// from the name: ".edf", ".bdf" and ".csv" (any case) name those formats; a
+// name ending in ".hea", or one beside which NAME.hea exists, is a WFDB
+// record (so "100" and "100.hea" both work, and so does "100.dat"); any other
+// existing file is read as EDF/BDF when it starts with their magic and is
+// refused with ErrFormat otherwise.
 func Open(path string) (*Recording, error) { return OpenWith(path, Options{}) }
 
 // OpenWith reads the recording at path (see Open) with the given options.
 func OpenWith(path string, opt Options) (*Recording, error) {
 	var rec *Recording
 	var err error
-	switch strings.ToLower(filepath.Ext(path)) {
-	case ".edf", ".bdf", ".rec":
-		rec, err = readEDFFile(path)
-	case ".csv":
-		rec, err = readCSVFile(path, opt)
+	switch kind, p, kerr := formatOf(path); {
+	case kerr != nil:
+		return nil, kerr
+	case kind == "edf":
+		rec, err = readEDFFile(p)
+	case kind == "csv":
+		rec, err = readCSVFile(p, opt)
 	default:
-		rec, err = readWFDB(path, opt)
+		rec, err = readWFDB(p, opt)
 	}
 	if err != nil {
 		return nil, err
@@ -289,13 +294,39 @@ func finish(rec *Recording, opt Options) {
 	}
 }
 
-// fileSize returns the size of the file at path.
-func fileSize(path string) (int64, error) {
-	st, err := os.Stat(path)
-	if err != nil {
-		return 0, err
+// formatOf decides how to read path: "wfdb", "edf" or "csv", and the path
+// to hand to that reader.
+func formatOf(path string) (string, string, error) {
+	ext := strings.ToLower(filepath.Ext(path))
+	switch ext {
+	case ".edf", ".bdf", ".rec":
+		return "edf", path, nil
+	case ".csv":
+		return "csv", path, nil
+	case ".hea":
+		return "wfdb", path, nil
 	}
-	return st.Size(), nil
+	if _, err := os.Stat(path + ".hea"); err == nil {
+		return "wfdb", path, nil
+	}
+	st, err := os.Stat(path)
+	if err != nil || st.IsDir() {
+		return "wfdb", path, nil // reported as a missing WFDB header
+	}
+	if f, err := os.Open(path); err == nil {
+		var magic [8]byte
+		n, _ := f.Read(magic[:])
+		f.Close()
+		if n == 8 && (string(magic[:]) == "0       " || string(magic[:]) == "\xffBIOSEMI") {
+			return "edf", path, nil
+		}
+	}
+	if base := strings.TrimSuffix(path, filepath.Ext(path)); base != path {
+		if _, err := os.Stat(base + ".hea"); err == nil {
+			return "wfdb", base, nil
+		}
+	}
+	return "", "", fmt.Errorf("recording %s: not a WFDB record (no %s.hea), EDF/BDF file or .csv: %w", path, path, ErrFormat)
 }
 
 // sortAnnotations sorts by time, keeping the order of equal times.

@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"strings"
 
 	"github.com/tidalbeat/tidalbeat/window"
 )
@@ -74,17 +73,19 @@ func OpenStream(path string) (*Reader, error) { return OpenStreamWith(path, Opti
 func OpenStreamWith(path string, opt Options) (*Reader, error) {
 	var r *Reader
 	var err error
-	switch strings.ToLower(extOf(path)) {
-	case ".edf", ".bdf", ".rec":
-		r, err = openEDFStream(path)
-	case ".csv":
+	switch kind, p, kerr := formatOf(path); {
+	case kerr != nil:
+		return nil, kerr
+	case kind == "edf":
+		r, err = openEDFStream(p)
+	case kind == "csv":
 		var rec *Recording
-		rec, err = readCSVFile(path, opt)
+		rec, err = readCSVFile(p, opt)
 		if err == nil {
 			r = memoryReader(rec)
 		}
 	default:
-		r, err = openWFDBStream(path, opt)
+		r, err = openWFDBStream(p, opt)
 	}
 	if err != nil {
 		return nil, err
@@ -228,11 +229,3 @@ func (m *memSource) read(maxFrames int, dst [][]float64) (int, error) {
 
 func (m *memSource) close() error      { return nil }
 func (m *memSource) warnings() []error { return nil }
-
-func extOf(path string) string {
-	i := strings.LastIndexAny(path, "./\\")
-	if i < 0 || path[i] != '.' {
-		return ""
-	}
-	return path[i:]
-}

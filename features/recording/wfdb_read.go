@@ -140,7 +140,7 @@ const maxFrameSamples = 1 << 20
 
 func newWFDBSource(h *WFDBHeader, dir, hea string, strict bool) (*wfdbSource, error) {
 	s := &wfdbSource{hea: hea, h: h, sig: make([]wfdbSigState, len(h.Signals)), strict: strict}
-	maxAvail := int64(0)
+	maxAvail, present := int64(0), int64(0)
 	for i := 0; i < len(h.Signals); {
 		j := i
 		fs := 0
@@ -184,6 +184,7 @@ func newWFDBSource(h *WFDBHeader, dir, hea string, strict bool) (*wfdbSource, er
 				return nil, fmt.Errorf("wfdb %s: signal file %s: %d bytes, shorter than its byte offset %d: %w", hea, sg.File, st.Size(), sg.Offset, ErrTruncated)
 			}
 			avail = samplesInBytes(sg.Format, st.Size()-sg.Offset) / int64(fs)
+			present += st.Size()
 			if h.Frames > 0 && avail < h.Frames {
 				s.close()
 				return nil, fmt.Errorf("wfdb %s: signal file %s holds %d frames, field number of samples says %d: %w", hea, sg.File, avail, h.Frames, ErrTruncated)
@@ -198,6 +199,15 @@ func newWFDBSource(h *WFDBHeader, dir, hea string, strict bool) (*wfdbSource, er
 	s.frames = h.Frames
 	if s.frames == 0 {
 		s.frames = maxAvail
+	}
+	// Signals without a file ("~") are not bounded by a file size: cap
+	// every signal's length by the bytes present, as for EDF+D gaps.
+	limit := int64(edfGapFillFactor)*present + edfGapFillSlack
+	for k, sg := range h.Signals {
+		if n := s.frames * int64(sg.SamplesFrame); n > limit || n < 0 {
+			s.close()
+			return nil, fmt.Errorf("wfdb %s: signal %d: %d frames x %d samples per frame for %d bytes of signal files: %w", hea, k, s.frames, sg.SamplesFrame, present, ErrTooLarge)
+		}
 	}
 	// Limit each file to the samples the record needs (frames plus the
 	// largest skew), so a file longer than its header is not read to the end.
