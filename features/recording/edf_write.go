@@ -35,6 +35,12 @@ type EDFWriteOptions struct {
 // when Text is empty, or "Code Text" when both are set; onsets are written
 // to 100 microseconds. Samples lose precision to the 16-bit quantisation:
 // at most half a digital step, (max-min)/65534/2.
+//
+// EDF header fields are fixed-width ASCII: channel names longer than 16
+// bytes and units longer than 8 are cut, and bytes outside printable ASCII
+// become '_'. A start that is unknown or outside 1985-2084 (the two-digit
+// year range of EDF) is written as 01.01.85 00.00.00, the EDF+ convention
+// for an anonymous start.
 func WriteEDF(w io.Writer, rec *Recording, opt EDFWriteOptions) error {
 	d := opt.RecordSeconds
 	if d == 0 {

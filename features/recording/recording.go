@@ -14,6 +14,28 @@
 // the exported sentinels (ErrHeader, ErrFormat, ErrTruncated, ...). Long
 // recordings can be read in chunks with OpenStream.
 //
+// Format notes:
+//
+//   - WFDB: single-segment records with signal formats 8, 16, 24, 32, 61,
+//     80, 160, 212, 310 and 311 (byte offsets, skew, samples per frame),
+//     annotation-only records and MIT-format annotations (read and write).
+//     Base times carry no zone and are taken as UTC; without a base date the
+//     start is unknown. A checksum mismatch does not stop reading: it is a
+//     warning in Recording.Warnings wrapping ErrChecksum, or an error with
+//     Options.StrictChecksum. Multi-segment records and writing WFDB signal
+//     files are not supported.
+//   - EDF, EDF+ (C and D) and BDF(+): 16- and 24-bit samples, physical
+//     scaling, TAL annotations; EDF+D discontinuities are filled with NaN and
+//     listed as gaps. WriteEDF writes EDF+C.
+//   - CSV: see ReadCSV for the layout; irregular timestamps are resampled
+//     and reported in Recording.Resample.
+//
+// Memory: signal data cost 8 bytes per sample (float64) plus transient
+// buffers; a header may not ask for more samples than its files hold, and NaN
+// filling (EDF+D gaps, unstored WFDB signals, CSV resampling) is capped at
+// 16 samples per byte of signal data (CSV: per row) plus 4 Mi samples
+// (ErrTooLarge).
+//
 // The package does no signal processing; the modality packages (ecg, resp,
 // motion) work on the slices it returns and never import it.
 package recording
