@@ -174,7 +174,7 @@ func (p *processor) step(x, y, z float64) {
 	i := p.n
 	p.n++
 	p.expireRun(i)
-	if !finite(x) || !finite(y) || !finite(z) {
+	if x-x != 0 || y-y != 0 || z-z != 0 { // NaN or infinite (v-v is NaN for both)
 		p.out = append(p.out, Sample{VM: float32(math.NaN()), Up: float32(math.NaN()), Left: float32(math.NaN()), Forward: float32(math.NaN()), Flags: FlagInvalid})
 		p.fresh = true
 		return
