@@ -298,3 +298,16 @@ func TestDemoUsage(t *testing.T) {
 		t.Errorf("demo with a positional argument: exit %d, want 2", code)
 	}
 }
+
+// BenchmarkDemo times the whole demo (simulate, EDF+ out and back, feature
+// table, report); the README promises well under 30 s on 2 cores.
+func BenchmarkDemo(b *testing.B) {
+	dir := b.TempDir()
+	for b.Loop() {
+		var so, se bytes.Buffer
+		if code := run([]string{"demo", "-o", dir}, &so, &se); code != 0 {
+			b.Fatalf("demo exit %d: %s", code, se.String())
+		}
+	}
+	b.ReportMetric(sim.DayDurationS*float64(b.N)/b.Elapsed().Seconds(), "recorded_s/s")
+}

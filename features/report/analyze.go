@@ -381,6 +381,18 @@ func (a *Analysis) segmentStats() {
 		if hr := meanHR(in.Beats, s.Start, s.End); !math.IsNaN(hr) {
 			s.Values = append(s.Values, Fact{Name: "mean HR (beats/min)", Value: fmt.Sprintf("%.1f", hr)})
 		}
+		if br := a.BreathRate(s.Start, s.End); !math.IsNaN(br) {
+			s.Values = append(s.Values, Fact{Name: "breathing rate (breaths/min)", Value: fmt.Sprintf("%.1f", br)})
+		}
+		if a.Breaths != nil {
+			n := 0
+			for _, e := range a.Events {
+				if e.Start >= s.Start && e.Start < s.End {
+					n++
+				}
+			}
+			s.Values = append(s.Values, Fact{Name: "candidate events", Value: fmt.Sprintf("%d", n)})
+		}
 		if n, ok := a.StepsIn(s.Start, s.End); ok {
 			s.Values = append(s.Values, Fact{Name: "steps", Value: fmt.Sprintf("%.0f", n)})
 		}
