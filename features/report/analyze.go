@@ -352,9 +352,9 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		name, label string
 		clean       []float64
 	}{
-		{features.FamilyHRV, "ECG / HRV", frac(t.Float("hrv_corrected_frac"), nil, true)},
-		{features.FamilyBreathing, "breathing", frac(t.Float("resp_clean_breaths_n"), t.Float("resp_breaths_n"), false)},
-		{features.FamilyActivity, "motion", frac(nil, nil, false)},
+		{features.FamilyHRV, QualityECG, frac(t.Float("hrv_corrected_frac"), nil, true)},
+		{features.FamilyBreathing, QualityBreathing, frac(t.Float("resp_clean_breaths_n"), t.Float("resp_breaths_n"), false)},
+		{features.FamilyActivity, QualityMotion, frac(nil, nil, false)},
 	} {
 		cov, why := t.Float(fam.name+"_coverage_frac"), t.Strings(fam.name+"_reason")
 		if cov == nil {

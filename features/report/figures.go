@@ -258,7 +258,7 @@ func figTachogram(in *Input) (figure, error) {
 		noData(p, "fewer than two beats")
 	} else {
 		p.Add(labelBands(in.Labels, 1.0/60))
-		p.Add(spans{S: scaleSpans(lowQuality(in.Quality, "ECG"), 1.0/60), Color: func(int) color.Color { return colEvent }})
+		p.Add(spans{S: scaleSpans(lowQuality(in.Quality, QualityECG), 1.0/60), Color: func(int) color.Color { return colEvent }})
 		p.Add(spans{S: scaleSpans(b.Gaps, 1.0/60), Color: func(int) color.Color { return colGap }})
 		hr := make([]float64, len(b.RRms))
 		for i, rr := range b.RRms {

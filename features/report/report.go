@@ -112,6 +112,14 @@ type Activity struct {
 	Posture []string  // posture name per epoch ("upright", "supine", ...; "" unknown)
 }
 
+// Quality row names: the tachogram shades the windows of QualityECG that
+// score below 0.5.
+const (
+	QualityECG       = "ECG / HRV"
+	QualityBreathing = "breathing"
+	QualityMotion    = "motion"
+)
+
 // QualityRow is one family's per-window quality: Score in [0, 1] (1 best),
 // NaN where the family has no data in the window.
 type QualityRow struct {

@@ -138,7 +138,7 @@ func sampleInput() *Input {
 	}
 	in.Trends.VE[3] = math.NaN()
 	in.Activity.EpochS = 30
-	for _, fam := range []string{"ECG", "breathing", "motion"} {
+	for _, fam := range []string{QualityECG, QualityBreathing, QualityMotion} {
 		r := QualityRow{Family: fam}
 		for i := 0; i < 40; i++ {
 			r.TimeS = append(r.TimeS, 30*float64(i))
