@@ -166,6 +166,33 @@ func countGrid(x []float64, n, m int, r float64) (a, b int64, ok bool) {
 	c := g.c
 	c0, cm := c[0], c[m]
 	var sameA, sameB, nextA, nextB int64
+	if m == 2 {
+		// The common case with the loops written out: no per-pair call,
+		// no inner coordinate loop.
+		scan := func(k, j0, j1 int) (ca, cb int64) {
+			v0, v2 := c0[k], cm[k]
+			for j := j0; j < j1; j++ {
+				if math.Abs(c0[j]-v0) <= r {
+					cb++
+					if math.Abs(cm[j]-v2) <= r {
+						ca++
+					}
+				}
+			}
+			return ca, cb
+		}
+		g.runs(r, func(k, s0, s1, n0, n1 int) {
+			ca, cb := scan(k, s0, s1)
+			sameA += ca
+			sameB += cb
+			if n1 > n0 {
+				ca, cb = scan(k, n0, n1)
+				nextA += ca
+				nextB += cb
+			}
+		})
+		return (sameA-int64(n))/2 + nextA, (sameB-int64(n))/2 + nextB, true
+	}
 	g.walk(r, func(k, j0, j1 int, same bool) {
 		var ca, cb int64
 		v0, vm := c0[k], cm[k]
@@ -364,6 +391,52 @@ func newCellGrid(x []float64, n, width int, r float64) (cellGrid, bool) {
 		g.cell[k] = cell[i]
 	}
 	return g, true
+}
+
+// runs calls visit(k, s0, s1, n0, n1) for every template k with the
+// second-coordinate runs [s0, s1) in its own cell and [n0, n1) in the next
+// cell (empty when there is no adjacent cell); see walk.
+func (g cellGrid) runs(r float64, visit func(k, s0, s1, n0, n1 int)) {
+	n := len(g.cell)
+	c1 := g.c[1]
+	for s := 0; s < n; {
+		e := s
+		for e < n && g.cell[e] == g.cell[s] {
+			e++
+		}
+		ns, ne := e, e
+		if e < n && g.cell[e] == g.cell[s]+1 {
+			for ne < n && g.cell[ne] == g.cell[e] {
+				ne++
+			}
+		}
+		// The runs' bounds move monotonically with c1[k] (k ascends in c1
+		// inside the cell), so they are advanced, not searched.
+		a0, a1, b0, b1 := s, s, ns, ns
+		for k := s; k < e; k++ {
+			v1 := c1[k]
+			for a0 < e && c1[a0]-v1 < -r {
+				a0++
+			}
+			if a1 < a0 {
+				a1 = a0
+			}
+			for a1 < e && c1[a1]-v1 <= r {
+				a1++
+			}
+			for b0 < ne && c1[b0]-v1 < -r {
+				b0++
+			}
+			if b1 < b0 {
+				b1 = b0
+			}
+			for b1 < ne && c1[b1]-v1 <= r {
+				b1++
+			}
+			visit(k, a0, a1, b0, b1)
+		}
+		s = e
+	}
 }
 
 // walk calls visit(k, j0, j1, same) for every template k with the run
