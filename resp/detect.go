@@ -10,7 +10,8 @@ import (
 )
 
 // Detect finds the breaths in the rib-cage and abdominal bands, sampled
-// together at opt.RateHz. NaN or infinite samples in either band become gaps
+// together at opt.RateHz. NaN, infinite or absurd (magnitude above 1e15)
+// samples in either band become gaps
 // (Result.Gaps) and detection restarts after each. It is the batch driver of
 // the same core the Stream type feeds, so both give identical results.
 //
@@ -159,6 +160,11 @@ type core struct {
 	out Result
 }
 
+// maxSample is the largest band magnitude accepted; larger (or NaN, Inf)
+// samples are invalid and become gaps: squares of larger values could
+// overflow the filters' state.
+const maxSample = 1e15
+
 const (
 	flagClip uint8 = 1 << iota
 	flagFlat
@@ -267,7 +273,7 @@ func (c *core) reference() float64 {
 }
 
 func (c *core) step(rib, abd float64) {
-	if !finite(rib) || !finite(abd) {
+	if !(math.Abs(rib) <= maxSample) || !(math.Abs(abd) <= maxSample) {
 		if !c.inGap {
 			c.inGap = true
 			c.gapStart = c.tRaw(c.n)
