@@ -19,8 +19,10 @@ type Options struct {
 	// from (features.Extract; its zero value means its defaults).
 	Features features.Config
 	// ExcerptS is the length of the breathing-trace excerpt, s; 180 when
-	// zero. The excerpt is centred on the first candidate event when there
-	// is one, otherwise it starts at the first breath.
+	// zero. The excerpt is centred on the longest candidate event, else on
+	// the longest pause between breaths when one lasts 10 s (the AASM
+	// minimum event duration, Berry et al. 2012) or more, else it starts
+	// at the first breath.
 	ExcerptS float64
 }
 
@@ -68,7 +70,7 @@ func Analyze(rec *recording.Recording, opt Options) (*Analysis, error) {
 	}
 	opt = opt.withDefaults()
 	in := &Input{Record: rec.Name, Duration: rec.Duration()}
-	if rec.StartKnown || !rec.Start.IsZero() {
+	if !rec.Start.IsZero() {
 		in.Start = rec.Start
 	}
 	a := &Analysis{Input: in}
@@ -256,8 +258,7 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 		in.Facts = append(in.Facts, Fact{Name: "candidate events", Value: fmt.Sprintf("%d apnea/hypopnea candidates (amplitude and duration criteria of Berry et al. 2012 on the band sum; no SpO2 or arousal, so not scored events)", len(ev))})
 	}
 	in.Facts = append(in.Facts, Fact{Name: "breaths detected", Value: fmt.Sprintf("%d; %s", len(res.Breaths), note)})
-	// Excerpt: centred on the longest pause between breaths (an apnea when
-	// there is one), else from the first breath.
+	// Excerpt: see Options.ExcerptS.
 	centre, longest := 0.0, 0.0
 	for i := 1; i < len(res.Breaths); i++ {
 		if d := res.Breaths[i].Onset - res.Breaths[i-1].EndExp; d > longest {
@@ -266,7 +267,17 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	}
 	t0 := centre - opt.ExcerptS/2
 	why := fmt.Sprintf("Excerpt centred on the longest pause between breaths (%.0f s).", longest)
-	if len(res.Breaths) > 0 && longest < 10 {
+	var ev *resp.Event
+	for i := range a.Events {
+		if ev == nil || a.Events[i].DurationS > ev.DurationS {
+			ev = &a.Events[i]
+		}
+	}
+	switch {
+	case ev != nil:
+		t0 = (ev.Start+ev.End)/2 - opt.ExcerptS/2
+		why = fmt.Sprintf("Excerpt centred on the longest candidate event (%s %s, %.0f s).", ev.Class, ev.Kind, ev.DurationS)
+	case len(res.Breaths) > 0 && longest < 10:
 		t0 = res.Breaths[0].Onset
 		why = "Excerpt from the first breath (no pause of 10 s or more)."
 	}
@@ -325,7 +336,6 @@ func (a *Analysis) fromTable(cfg features.Config) {
 	tr := &in.Trends
 	tr.TimeS = times
 	tr.RatePerMn = t.Float("resp_rate_per_min")
-	tr.HRbpm = t.Float("mean_hr_bpm")
 	tr.VE, tr.VEUnit = t.Float("ve_l_min"), "L/min"
 	if absent(tr.VE) {
 		tr.VE, tr.VEUnit = t.Float("ve_au_min"), "AU/min"

@@ -99,7 +99,6 @@ type Trends struct {
 	VE        []float64 // minute ventilation
 	VEUnit    string    // "L/min" when calibrated, otherwise an arbitrary unit
 	RatePerMn []float64 // breathing rate, breaths/min
-	HRbpm     []float64 // mean heart rate per window, beats/min (optional)
 }
 
 // Activity holds per-epoch motion measures (NaN where undefined).
