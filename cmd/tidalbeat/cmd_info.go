@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"sort"
@@ -9,6 +10,7 @@ import (
 	"time"
 
 	"github.com/tidalbeat/tidalbeat/features/recording"
+	"github.com/tidalbeat/tidalbeat/window"
 )
 
 func init() {
@@ -75,7 +77,7 @@ func runInfo(args []string, stdout, stderr io.Writer) error {
 	if *anns != "" {
 		opt.Annotators = strings.Split(*anns, ",")
 	}
-	rec, err := recording.OpenWith(pos[0], opt)
+	rec, err := scanRecording(pos[0], opt)
 	if err != nil {
 		return err
 	}
@@ -84,18 +86,76 @@ func runInfo(args []string, stdout, stderr io.Writer) error {
 	return enc.Encode(summarize(rec))
 }
 
-// summarize builds the info summary of a recording.
-func summarize(rec *recording.Recording) infoSummary {
-	s := infoSummary{Name: rec.Name, Format: rec.Format, StartKnown: rec.StartKnown, DurationS: rec.Duration(),
+// scanRecording reads path in chunks and returns its channels, gaps,
+// annotations and sample counts without keeping the samples, so that
+// days-long WFDB and EDF files are summarised in bounded memory.
+func scanRecording(path string, opt recording.Options) (*countedRecording, error) {
+	r, err := recording.OpenStreamWith(path, opt)
+	if err != nil {
+		return nil, err
+	}
+	defer r.Close()
+	n := len(r.Info.Channels)
+	counts := make([]int, n)
+	gaps := make([][]window.Interval, n)
+	for {
+		c, err := r.Next(1 << 14)
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return nil, err
+		}
+		for i := range c.Samples {
+			counts[i] += len(c.Samples[i])
+			gaps[i] = append(gaps[i], c.Gaps[i]...)
+		}
+	}
+	rec := r.Info
+	rec.Channels = append([]recording.Channel(nil), r.Info.Channels...)
+	for i := range rec.Channels {
+		g, err := window.NormalizeGaps(gaps[i])
+		if err != nil {
+			return nil, fmt.Errorf("%s: channel %d: %w", path, i, err)
+		}
+		rec.Channels[i].Gaps = g
+	}
+	return &countedRecording{Recording: &rec, counts: counts}, nil
+}
+
+// countedRecording is a Recording whose samples were counted, not kept.
+type countedRecording struct {
+	*recording.Recording
+	counts []int // samples per channel
+}
+
+// durationS is the longest channel's length, or without channels the end of
+// the last annotation (as Recording.Duration).
+func (c *countedRecording) durationS() float64 {
+	d := 0.0
+	for i, ch := range c.Channels {
+		if ch.RateHz > 0 {
+			d = max(d, float64(c.counts[i])/ch.RateHz)
+		}
+	}
+	if len(c.Channels) == 0 {
+		d = c.Recording.Duration()
+	}
+	return d
+}
+
+// summarize builds the info summary of a scanned recording.
+func summarize(rec *countedRecording) infoSummary {
+	s := infoSummary{Name: rec.Name, Format: rec.Format, StartKnown: rec.StartKnown, DurationS: rec.durationS(),
 		Channels: []infoChannel{}, Gaps: []infoGap{}, AnnotationCounts: map[string]int{}, Resample: rec.Resample, Warnings: []string{}}
 	if rec.StartKnown || !rec.Start.IsZero() {
 		v := rec.Start.UTC().Format(time.RFC3339Nano)
 		s.Start = &v
 	}
-	for _, c := range rec.Channels {
-		ic := infoChannel{Name: c.Name, Unit: c.Unit, RateHz: c.RateHz, Samples: len(c.Samples), Role: c.Role.String(), GapCount: len(c.Gaps)}
+	for i, c := range rec.Channels {
+		ic := infoChannel{Name: c.Name, Unit: c.Unit, RateHz: c.RateHz, Samples: rec.counts[i], Role: c.Role.String(), GapCount: len(c.Gaps)}
 		if c.RateHz > 0 {
-			ic.DurationS = float64(len(c.Samples)) / c.RateHz
+			ic.DurationS = float64(rec.counts[i]) / c.RateHz
 		}
 		for _, g := range c.Gaps {
 			ic.InvalidS += g.End - g.Start

@@ -41,6 +41,17 @@ func TestInfoRecord100(t *testing.T) {
 	if s.Start != nil || s.StartKnown || s.DurationS != 650000.0/360 || s.Format != "wfdb" {
 		t.Errorf("start %v known %v duration %v format %s", s.Start, s.StartKnown, s.DurationS, s.Format)
 	}
+	// A corrupted copy still summarises, with the checksum mismatch listed
+	// (WFDB header checksums of record 100: -22131 and 20052).
+	dir := t.TempDir()
+	hea, _ := os.ReadFile(p + ".hea")
+	dat, _ := os.ReadFile(p + ".dat")
+	dat[30] ^= 0x10
+	os.WriteFile(filepath.Join(dir, "100.hea"), hea, 0o644)
+	os.WriteFile(filepath.Join(dir, "100.dat"), dat, 0o644)
+	if c := runInfoJSON(t, filepath.Join(dir, "100")); len(c.Warnings) != 1 || !strings.Contains(c.Warnings[0], "checksum") {
+		t.Errorf("corrupted copy: warnings %q", c.Warnings)
+	}
 	// A start supplied on the command line is used (the header has none).
 	s = runInfoJSON(t, p, "-start", "2026-06-01T06:00:00Z")
 	if s.Start == nil || *s.Start != "2026-06-01T06:00:00Z" || s.StartKnown {
