@@ -76,6 +76,10 @@ type Options struct {
 	EntropyR    float64 // SampEn/ApEn tolerance as a fraction of SD(NN): 0.2 when zero (common practice)
 	Alpha1Boxes [2]int  // DFA alpha1 box range: 4..16 beats when zero
 	Alpha2Boxes [2]int  // DFA alpha2 box range: 16..64 beats when zero
+	// DFA selects the DFA variant for both exponents (its MinBox and
+	// MaxBox are ignored; the ranges above apply): every integer box
+	// size, boxes from the start only, when zero.
+	DFA DFAOptions
 	Min         MinData // minimum-data rules
 
 	// WindowS is the length of the window the intervals come from (s); it
@@ -579,7 +583,9 @@ func (w *work) nonlinear(m *Metrics, nn []float64, opt Options, min MinData) {
 			m.undefined(col, fmt.Sprintf("%d intervals, %s needs %d", n, col, need))
 			return
 		}
-		v, err := DFA(nn, boxes[0], boxes[1])
+		o := opt.DFA
+		o.MinBox, o.MaxBox = boxes[0], boxes[1]
+		v, err := DFAWith(nn, o)
 		m.set(col, v, err)
 	}
 	dfa("dfa_alpha1", opt.Alpha1Boxes, [2]int{4, 16}, min.Alpha1N)

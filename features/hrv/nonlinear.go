@@ -484,18 +484,50 @@ func (g cellGrid) walk(r float64, visit func(k, j0, j1 int, same bool)) {
 // and alpha is the least-squares slope of log F(n) against log n. HRV uses
 // alpha1 over 4..16 and alpha2 over 16..64 beats. It needs N >= maxBox and
 // 2 <= minBox < maxBox; a zero fluctuation gives ErrUndefined.
-// Cost O(N (maxBox - minBox + 1)).
+// Cost O(N (maxBox - minBox + 1)). DFAWith exposes the variants.
 func DFA(x []float64, minBox, maxBox int) (float64, error) {
+	return DFAWith(x, DFAOptions{MinBox: minBox, MaxBox: maxBox})
+}
+
+// DFAOptions selects the DFA variant (methods.md 3.4 lists the choices that
+// published tools differ on). Zero values mean the DFA defaults.
+type DFAOptions struct {
+	MinBox, MaxBox int // box sizes in beats; required
+	// Sizes is the number of log-spaced box sizes between MinBox and
+	// MaxBox (rounded, duplicates dropped); every integer size when zero.
+	Sizes int
+	// BothEnds also cuts boxes from the end of the series, so the
+	// remainder at either end is used (2 floor(N/n) boxes).
+	BothEnds bool
+}
+
+// DFAWith is DFA with the variant chosen by opt.
+func DFAWith(x []float64, opt DFAOptions) (float64, error) {
+	minBox, maxBox := opt.MinBox, opt.MaxBox
 	for i, v := range x {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return math.NaN(), fmt.Errorf("hrv: DFA: value %d is %v: %w", i, v, ErrInput)
 		}
 	}
-	if minBox < 2 || maxBox <= minBox {
-		return math.NaN(), fmt.Errorf("hrv: DFA boxes %d..%d: %w", minBox, maxBox, ErrInput)
+	if minBox < 2 || maxBox <= minBox || opt.Sizes < 0 || opt.Sizes == 1 {
+		return math.NaN(), fmt.Errorf("hrv: DFA boxes %d..%d (%d sizes): %w", minBox, maxBox, opt.Sizes, ErrInput)
 	}
 	if len(x) < maxBox {
 		return math.NaN(), fmt.Errorf("hrv: DFA of %d values with boxes up to %d: %w", len(x), maxBox, ErrTooFew)
+	}
+	var sizes []int
+	if opt.Sizes == 0 {
+		for n := minBox; n <= maxBox; n++ {
+			sizes = append(sizes, n)
+		}
+	} else {
+		ratio := math.Log(float64(maxBox) / float64(minBox))
+		for i := 0; i < opt.Sizes; i++ {
+			n := int(math.Round(float64(minBox) * math.Exp(ratio*float64(i)/float64(opt.Sizes-1))))
+			if len(sizes) == 0 || n != sizes[len(sizes)-1] {
+				sizes = append(sizes, n)
+			}
+		}
 	}
 	m := mean(x)
 	y := make([]float64, len(x))
@@ -505,9 +537,8 @@ func DFA(x []float64, minBox, maxBox int) (float64, error) {
 		y[i] = s
 	}
 	var sx, sy, sxx, sxy float64
-	cnt := 0
-	for n := minBox; n <= maxBox; n++ {
-		f := fluctuation(y, n)
+	for _, n := range sizes {
+		f := fluctuation(y, n, opt.BothEnds)
 		if !(f > 0) {
 			return math.NaN(), fmt.Errorf("hrv: DFA: zero fluctuation at box %d: %w", n, ErrUndefined)
 		}
@@ -516,14 +547,14 @@ func DFA(x []float64, minBox, maxBox int) (float64, error) {
 		sy += ly
 		sxx += lx * lx
 		sxy += lx * ly
-		cnt++
 	}
-	k := float64(cnt)
+	k := float64(len(sizes))
 	return (k*sxy - sx*sy) / (k*sxx - sx*sx), nil
 }
 
-// fluctuation is F(n): RMS of the profile around per-box least-squares lines.
-func fluctuation(y []float64, n int) float64 {
+// fluctuation is F(n): RMS of the profile around per-box least-squares
+// lines, boxes cut from the start (and from the end too when bothEnds).
+func fluctuation(y []float64, n int, bothEnds bool) float64 {
 	boxes := len(y) / n
 	// Centred abscissa u = k - (n-1)/2 makes slope and intercept independent.
 	c := float64(n-1) / 2
@@ -532,9 +563,7 @@ func fluctuation(y []float64, n int) float64 {
 		u := float64(k) - c
 		suu += u * u
 	}
-	var total float64
-	for b := 0; b < boxes; b++ {
-		seg := y[b*n : (b+1)*n]
+	box := func(seg []float64) float64 {
 		var my float64
 		for _, v := range seg {
 			my += v
@@ -550,7 +579,19 @@ func fluctuation(y []float64, n int) float64 {
 		if res < 0 {
 			res = 0
 		}
-		total += res
+		return res
 	}
-	return math.Sqrt(total / float64(boxes*n))
+	var total float64
+	for b := 0; b < boxes; b++ {
+		total += box(y[b*n : (b+1)*n])
+	}
+	used := boxes
+	if bothEnds {
+		off := len(y) - boxes*n
+		for b := 0; b < boxes; b++ {
+			total += box(y[off+b*n : off+(b+1)*n])
+		}
+		used *= 2
+	}
+	return math.Sqrt(total / float64(used*n))
 }

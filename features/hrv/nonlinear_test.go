@@ -178,6 +178,19 @@ func TestDFAWhiteAndBrownian(t *testing.T) {
 	if !near(a, c, 1e-9) {
 		t.Errorf("affine invariance: %v vs %v", a, c)
 	}
+	// The variants estimate the same exponent (methods.md 3.4 options).
+	for _, o := range []DFAOptions{{Sizes: 12}, {BothEnds: true}, {Sizes: 12, BothEnds: true}} {
+		o.MinBox, o.MaxBox = 16, 64
+		if v, err := DFAWith(b, o); err != nil || !near(v, 1.5, 0.05) {
+			t.Errorf("%+v: Brownian alpha2 %v (%v), want 1.5 +- 0.05", o, v, err)
+		}
+		if v, err := DFAWith(w, o); err != nil || !near(v, 0.5, 0.05) {
+			t.Errorf("%+v: white alpha2 %v (%v), want 0.5 +- 0.05", o, v, err)
+		}
+	}
+	if _, err := DFAWith(w, DFAOptions{MinBox: 4, MaxBox: 16, Sizes: 1}); !errors.Is(err, ErrInput) {
+		t.Errorf("one size: %v", err)
+	}
 	if v, err := DFA(make([]float64, 100), 4, 16); !math.IsNaN(v) || !errors.Is(err, ErrUndefined) {
 		t.Errorf("flat: %v %v, want NaN ErrUndefined", v, err)
 	}
