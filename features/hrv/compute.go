@@ -80,7 +80,7 @@ type Options struct {
 	// MaxBox are ignored; the ranges above apply): every integer box
 	// size, boxes from the start only, when zero.
 	DFA DFAOptions
-	Min         MinData // minimum-data rules
+	Min MinData // minimum-data rules
 
 	// WindowS is the length of the window the intervals come from (s); it
 	// gives the NN coverage. Zero: unknown (coverage NaN, rule not applied).
