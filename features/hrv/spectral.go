@@ -164,7 +164,10 @@ func (p PSD) Peak(b Band) float64 {
 // then estimate; Lomb detrends the uneven values by index and evaluates the
 // Lomb-Scargle periodogram scaled to a one-sided density 2 T P(2 pi f), T the
 // mean interval between samples (methods.md 2.6, derived; Parseval holds on
-// the grid). It needs at least 4 intervals and a non-degenerate span.
+// the grid). Holes in a non-contiguous series (removed ectopic beats) are
+// bridged by the spline for Welch and Burg and simply absent for Lomb;
+// Compute's NN-coverage rule keeps such holes small. It needs at least 4
+// intervals and a non-degenerate span.
 func Spectrum(nnMs, endS []float64, opt SpectrumOptions) (PSD, error) {
 	var w spectrumWork
 	return w.spectrum(nnMs, endS, opt)
