@@ -397,11 +397,11 @@ func (a *Analysis) segmentStats() {
 		if a.Breaths != nil {
 			n := 0
 			for _, e := range a.Events {
-				if e.Start >= s.Start && e.Start < s.End {
+				if e.Start < s.End && e.End > s.Start {
 					n++
 				}
 			}
-			s.Values = append(s.Values, Fact{Name: "candidate events", Value: fmt.Sprintf("%d", n)})
+			s.Values = append(s.Values, Fact{Name: "candidate events overlapping", Value: fmt.Sprintf("%d", n)})
 		}
 		if n, ok := a.StepsIn(s.Start, s.End); ok {
 			s.Values = append(s.Values, Fact{Name: "steps", Value: fmt.Sprintf("%.0f", n)})

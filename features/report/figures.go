@@ -395,7 +395,7 @@ func figPoincare(in *Input) (figure, error) {
 		}
 		f.Caption = fmt.Sprintf("%d successive NN pairs", len(x))
 		if stride > 1 {
-			f.Caption += fmt.Sprintf(" (every %d-th pair drawn)", stride)
+			f.Caption += fmt.Sprintf(" (1 in %d drawn)", stride)
 		}
 		f.Caption += "; grey line: identity."
 	}
@@ -465,7 +465,7 @@ func figBreathing(in *Input) (figure, error) {
 				nev++
 			}
 		}
-		f.Caption = fmt.Sprintf("%.0f-%.0f s: %d end-inspiration peaks (red), %d end-expiration troughs (green), %d candidate events (orange). %s",
+		f.Caption = fmt.Sprintf("%.0f-%.0f s: end-inspiration peaks (red): %d, end-expiration troughs (green): %d, candidate events (orange): %d. %s",
 			b.T0S, t1, len(px), len(tx), nev, b.Note)
 	}
 	f.w, f.h, f.plots = figW, figH, []*plot.Plot{p}
