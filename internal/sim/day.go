@@ -163,19 +163,9 @@ type DayTruth struct {
 	Beats    []DayBeat
 	Breaths  []DayBreath
 	Apneas   []DayInterval // obstructive apneas
-	Steps    []float64     // step (foot strike) times, s
+	Steps    []float64     // step (impact) times from AccelSimulate, s
 	LeadOff  []DayInterval // ECG gaps (samples NaN)
 	Posture  []DayPosture  // posture per second of the recording
-}
-
-// SegmentOf returns the index of the segment containing t, or -1.
-func (tr *DayTruth) SegmentOf(t float64) int {
-	for i, s := range tr.Segments {
-		if t >= s.StartS && t < s.EndS {
-			return i
-		}
-	}
-	return -1
 }
 
 // MeanHR returns the mean heart rate (beats/min) over [start, end) from the
