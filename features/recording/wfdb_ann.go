@@ -209,15 +209,17 @@ func WriteWFDBAnnotations(w io.Writer, anns []Annotation, rateHz float64) error 
 			s = int64(math.Round(an.Time * rateHz))
 		}
 		d := s - prev
-		if d < math.MinInt32 || d > math.MaxInt32 {
-			return fmt.Errorf("wfdb annotations: annotation %d: interval %d samples: %w", i, d, ErrData)
-		}
 		if d > 1023 || d < 0 {
-			word(annSKIP, 0)
-			u := uint32(int32(d))
-			for _, x := range []uint32{u >> 16, u & 0xffff} {
-				bw.WriteByte(byte(x))
-				bw.WriteByte(byte(x >> 8))
+			// One SKIP holds a 32-bit interval; longer ones take several.
+			for first := true; first || d != 0; first = false {
+				step := min(max(d, math.MinInt32), math.MaxInt32)
+				word(annSKIP, 0)
+				u := uint32(int32(step))
+				for _, x := range []uint32{u >> 16, u & 0xffff} {
+					bw.WriteByte(byte(x))
+					bw.WriteByte(byte(x >> 8))
+				}
+				d -= step
 			}
 			word(code, 0)
 		} else {
