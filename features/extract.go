@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 	"time"
 
 	"github.com/tidalbeat/tidalbeat/features/recording"
@@ -177,6 +178,11 @@ func Extract(rec *recording.Recording, cfg Config) (*Table, error) {
 		index[w.Seq] = len(t.Rows)
 		t.Rows = append(t.Rows, p.newRow(w))
 	}
+	// Families are independent: compute them concurrently (each family's
+	// own windows may run in parallel too), then fill the rows in order.
+	results := make([][]famResult, len(p.families))
+	errs := make([]error, len(p.families))
+	var wg sync.WaitGroup
 	for i, f := range p.families {
 		if f.missing != "" {
 			continue
@@ -185,11 +191,18 @@ func Extract(rec *recording.Recording, cfg Config) (*Table, error) {
 		if err != nil {
 			return nil, err
 		}
-		res, err := f.batch(g)
-		if err != nil {
-			return nil, fmt.Errorf("features: %s: %w", rec.Name, err)
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			results[i], errs[i] = f.batch(g)
+		}()
+	}
+	wg.Wait()
+	for i := range p.families {
+		if errs[i] != nil {
+			return nil, fmt.Errorf("features: %s: %w", rec.Name, errs[i])
 		}
-		for _, r := range res {
+		for _, r := range results[i] {
 			if k, ok := index[r.seq]; ok {
 				p.put(&t.Rows[k], i, r)
 			}

@@ -3,8 +3,10 @@ package features
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"sort"
 	"strings"
+	"sync"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
 	"github.com/tidalbeat/tidalbeat/features/hrv"
@@ -12,14 +14,24 @@ import (
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
-// hrvCols are the HRV family's columns: the beats in the window, then the
-// hrv package's own Columns verbatim (hrv_n_nn first).
+// NN cleaning runs once per row step ("block"), on the beats from
+// nnMarginSteps steps before the block to nnMarginSteps steps after it, and
+// keeps the intervals ending inside the block. Cleaning a short block in
+// its context rather than every 5-min window saves the tenfold overlap of
+// the windows, and the context lets the centred rules of ecg.CleanRR
+// (91-beat quartile deviation, 11-beat median) see both sides of every
+// interval; the result depends only on the block's context, never on how the
+// data were chunked. At the default 30-s step the context is 150 s.
+const nnMarginSteps = 2
+
+// hrvCols are the HRV family's columns: its counts, then the hrv package's
+// own Columns verbatim (hrv_n_nn first).
 func hrvCols() []Column {
 	cols := []Column{
 		{Name: "hrv_n_beats", Kind: Int, Doc: "beats (R-peaks or beat annotations) inside the window"},
-		{Name: "hrv_n_ectopic", Kind: Int, Doc: "detected beats classed ectopic by NN cleaning (adjacent intervals interpolated); empty for annotated beats"},
-		{Name: "hrv_n_missed", Kind: Int, Doc: "missed beats inserted by NN cleaning; empty for annotated beats"},
-		{Name: "hrv_n_extra", Kind: Int, Doc: "extra detections removed by NN cleaning; empty for annotated beats"},
+		{Name: "hrv_n_ectopic", Kind: Int, Doc: "NN intervals interpolated next to an ectopic beat by NN cleaning (ecg.FixEctopic); empty for annotated beats"},
+		{Name: "hrv_n_missed", Kind: Int, Doc: "NN intervals split at a missed beat by NN cleaning (ecg.FixMissed); empty for annotated beats"},
+		{Name: "hrv_n_extra", Kind: Int, Doc: "NN intervals merged across an extra detection by NN cleaning (ecg.FixExtra); empty for annotated beats"},
 		{Name: "hrv_n_removed", Kind: Int, Doc: "intervals removed by NN cleaning (physiological limits, percentage rule); empty for annotated beats"},
 	}
 	for _, c := range hrv.ColumnInfo() {
@@ -32,53 +44,76 @@ func hrvCols() []Column {
 	return cols
 }
 
-// beat is one heart beat for the HRV core: its time (s from the start) and
-// whether it is a normal beat (always true for detected beats).
+// hrvExtra is the number of count columns before hrv.Columns.
+const hrvExtra = 5
+
+// beat is one heart beat: its time (s from the start) and whether it is a
+// normal beat (always true for detected beats).
 type beat struct {
 	t      float64
 	normal bool
 }
 
-// hrvExtra is the number of bookkeeping columns before hrv.Columns.
-const hrvExtra = 5
+// nnKind says what an nnItem is.
+type nnKind uint8
 
-// hrvCore turns the beats of one window into the family's values. Both
-// drivers call it with the beats inside the window (methods reference 7:
-// "an NN interval belongs if both beats do").
-//
-// Detected beats (all marked normal) are cleaned per window by
-// ecg.CleanRR (Lipponen and Tarvainen 2019 by default; intervals across a
-// gap are not formed), so every window is treated like a stand-alone
-// short-term recording and the result cannot depend on how the data were
-// chunked. Annotated beats join consecutive normal beats ("N") not
-// separated by a gap, uncorrected (reference annotations).
-func hrvCore(w window.Window, beats []beat, gaps []window.Interval, length float64, detected bool, out cells) string {
-	out.v[0] = float64(len(beats))
-	var nn, end []float64
-	var corrected []bool
-	if detected {
+const (
+	itemBeat     nnKind = iota // a beat (counted in hrv_n_beats)
+	itemInterval               // an NN interval ending at t
+	itemRemoved                // an interval removed by cleaning, ending at t
+)
+
+// nnItem is one entry of the cleaned series the HRV windows are laid over.
+type nnItem struct {
+	t    float64 // s from the start: the beat, or the interval's end
+	ms   float64 // interval length (intervals only)
+	fix  ecg.Fix
+	kind nnKind
+}
+
+// hrvSetup is what both HRV drivers share.
+type hrvSetup struct {
+	detected bool    // beats from the detector (cleaned) or annotations (N-N pairs)
+	length   float64 // HRV window, s
+	step     float64 // row step, s
+}
+
+// cleanBlock is the first per-window core: w is a window of the cleaning
+// grid (length step*(1+2*nnMarginSteps)), beats and gaps its contents. It
+// returns the items of the block [w.End-(1+m)step, w.End-m*step), sorted.
+func (h hrvSetup) cleanBlock(w window.Window, beats []beat, gaps []window.Interval) []nnItem {
+	be := w.End - nnMarginSteps*h.step
+	bs := be - h.step
+	in := func(t float64) bool { return t >= bs && t < be }
+	var out []nnItem
+	for _, b := range beats {
+		if in(b.t) {
+			out = append(out, nnItem{t: b.t, kind: itemBeat})
+		}
+	}
+	if h.detected {
 		times := make([]float64, len(beats))
 		for i, b := range beats {
 			times[i] = b.t
 		}
 		c, err := ecg.CleanRR(times, gaps, ecg.NNOptions{})
-		if err != nil {
-			return "NN cleaning: " + err.Error()
-		}
-		out.v[1], out.v[2], out.v[3] = float64(c.Counts.Ectopic), float64(c.Counts.Missed), float64(c.Counts.Extra)
-		out.v[4] = float64(c.Counts.OutOfRange + c.Counts.Percent)
-		nn = c.Ms
-		corrected = make([]bool, len(c.Fix))
-		end = make([]float64, len(c.TimeS))
-		for i := range c.TimeS {
-			end[i] = c.TimeS[i] - w.Start
-			corrected[i] = c.Fix[i] != ecg.FixNone
+		if err == nil {
+			for i, t := range c.TimeS {
+				if in(t) {
+					out = append(out, nnItem{t: t, ms: c.Ms[i], fix: c.Fix[i], kind: itemInterval})
+				}
+			}
+			for _, t := range c.RemovedS {
+				if in(t) {
+					out = append(out, nnItem{t: t, kind: itemRemoved})
+				}
+			}
 		}
 	} else {
 		gi := 0
 		for i := 1; i < len(beats); i++ {
 			a, b := beats[i-1], beats[i]
-			if !a.normal || !b.normal {
+			if !in(b.t) || !a.normal || !b.normal {
 				continue
 			}
 			for gi < len(gaps) && gaps[gi].End <= a.t {
@@ -87,11 +122,60 @@ func hrvCore(w window.Window, beats []beat, gaps []window.Interval, length float
 			if gi < len(gaps) && gaps[gi].Start < b.t {
 				continue // an interval across lost data is not an RR interval
 			}
-			nn = append(nn, (b.t-a.t)*1000)
-			end = append(end, b.t-w.Start)
+			out = append(out, nnItem{t: b.t, ms: (b.t - a.t) * 1000, kind: itemInterval})
 		}
 	}
-	m := hrv.Compute(nn, end, hrv.Options{WindowS: length, Corrected: corrected})
+	sort.SliceStable(out, func(i, j int) bool {
+		if out[i].t != out[j].t {
+			return out[i].t < out[j].t
+		}
+		return out[i].kind < out[j].kind
+	})
+	return out
+}
+
+// hrvCore is the second per-window core: the items of one HRV window. An
+// interval belongs to the window when both its beats do (methods reference
+// 7): its end is inside (the engine's range) and its start, end minus its
+// length, is not before the window start (within hrv.ContiguousTolS).
+func (h hrvSetup) hrvCore(w window.Window, items []nnItem, valid bool, out cells) string {
+	var nb, ect, mis, ext, rem float64
+	var nn, end []float64
+	var corrected []bool
+	for _, it := range items {
+		switch it.kind {
+		case itemBeat:
+			nb++
+		case itemRemoved:
+			rem++
+		case itemInterval:
+			if it.t-it.ms/1000 < w.Start-hrv.ContiguousTolS {
+				continue
+			}
+			switch it.fix {
+			case ecg.FixEctopic:
+				ect++
+			case ecg.FixMissed:
+				mis++
+			case ecg.FixExtra:
+				ext++
+			}
+			nn = append(nn, it.ms)
+			end = append(end, it.t-w.Start)
+			corrected = append(corrected, it.fix != ecg.FixNone)
+		}
+	}
+	out.v[0] = nb
+	if h.detected {
+		out.v[1], out.v[2], out.v[3], out.v[4] = ect, mis, ext, rem
+	}
+	if !valid {
+		return ""
+	}
+	if !h.detected {
+		corrected = nil
+	}
+	m := hrv.Compute(nn, end, hrv.Options{WindowS: h.length, Corrected: corrected})
 	m.AppendValues(out.v[:hrvExtra])
 	return hrvReason(m)
 }
@@ -102,32 +186,16 @@ func hrvReason(m hrv.Metrics) string {
 	if m.Err != nil {
 		return strings.TrimPrefix(m.Err.Error(), "hrv: ")
 	}
-	names := hrv.Columns()
-	byReason := map[string][]string{}
-	var order []string
-	for i, r := range m.ReasonList() {
-		if r == "" {
-			continue
-		}
-		if _, ok := byReason[r]; !ok {
-			order = append(order, r)
-		}
-		byReason[r] = append(byReason[r], names[i])
-	}
-	parts := make([]string, len(order))
-	for i, r := range order {
-		parts[i] = strings.Join(byReason[r], ",") + ": " + r
-	}
-	return strings.Join(parts, "; ")
+	return joinReasons(hrv.Columns(), m.ReasonList())
 }
 
 // newHRVFamily builds the HRV family: beats detected on the ECG channel
 // (ecg.Detect in batch, ecg.Detector when streaming: one detector core) or
-// taken from annotations when Config.BeatsAnnotator is set, then hrvCore
-// per window.
+// taken from annotations when Config.BeatsAnnotator is set; NN cleaning per
+// block (cleanBlock); hrv.Compute per window (hrvCore).
 func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 	f := &family{name: FamilyHRV, length: cfg.HRVWindow, cols: hrvCols()}
-	length := cfg.HRVWindow.Seconds()
+	h := hrvSetup{length: cfg.HRVWindow.Seconds(), step: cfg.Step.Seconds()}
 	if cfg.BeatsAnnotator != "" {
 		var beats []beat
 		for _, a := range rec.Annotations {
@@ -142,10 +210,11 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 		sort.SliceStable(beats, func(i, j int) bool { return beats[i].t < beats[j].t })
 		end := dataEnd(rec, nil)
 		f.batchFn = func(g window.Grid) ([]famResult, error) {
-			return hrvBatch(f, g, beats, end, nil, length, false)
+			return h.batch(f, g, cfg, beats, end, nil)
 		}
 		return f
 	}
+	h.detected = true
 	ch := cfg.findRole(rec, recording.RoleECG)
 	if ch == nil {
 		f.missing = "no ECG channel"
@@ -174,39 +243,126 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 		if err != nil {
 			return nil, err
 		}
-		return hrvBatch(f, g, beats, float64(len(in.x))/rate, gaps, length, true)
+		return h.batch(f, g, cfg, beats, float64(len(in.x))/rate, gaps)
 	}
 	f.newDriver = func(g window.Grid) (driver, error) {
 		det, err := ecg.NewDetector(rate, ecg.Options{})
 		if err != nil {
 			return nil, err
 		}
-		es, err := window.NewEventStream(g, func(b beat) float64 { return b.t })
+		cg, err := cleanGrid(cfg, g)
 		if err != nil {
 			return nil, err
 		}
-		return &hrvDriver{f: f, det: det, es: es, rate: rate, length: length, last: math.MinInt64, runStart: -1}, nil
+		es1, err := window.NewEventStream(cg, func(b beat) float64 { return b.t })
+		if err != nil {
+			return nil, err
+		}
+		es2, err := window.NewEventStream(g, func(it nnItem) float64 { return it.t })
+		if err != nil {
+			return nil, err
+		}
+		return &hrvDriver{f: f, h: h, det: det, es1: es1, es2: es2, rate: rate, last: math.MinInt64, runStart: -1}, nil
 	}
 	return f
 }
 
-// hrvBatch lays the grid over the beats (window.Grid.Events) and runs the
-// core per window.
-func hrvBatch(f *family, g window.Grid, beats []beat, end float64, gaps []window.Interval, length float64, detected bool) ([]famResult, error) {
+// cleanGrid is the grid of cleaning blocks with their context.
+func cleanGrid(cfg Config, g window.Grid) (window.Grid, error) {
+	sp := g.Spec()
+	sp.Length = cfg.Step * (1 + 2*nnMarginSteps)
+	return window.NewGrid(sp, g.Origin())
+}
+
+// batch runs both stages over whole series: the cleaning grid over the
+// beats, then the HRV grid over the cleaned items. Windows are computed in
+// parallel (each is a pure function of its contents).
+func (h hrvSetup) batch(f *family, g window.Grid, cfg Config, beats []beat, end float64, gaps []window.Interval) ([]famResult, error) {
 	times := make([]float64, len(beats))
 	for i, b := range beats {
 		times[i] = b.t
 	}
 	end = math.Max(end, lastTime(times))
-	it, err := g.Events(times, end, gaps)
+	cg, err := cleanGrid(cfg, g)
 	if err != nil {
 		return nil, err
 	}
-	var out []famResult
-	for w := range it {
-		out = append(out, f.runEvents(w, beats[w.Lo:w.Hi], gaps, length, detected))
+	it, err := cg.Events(times, end, gaps)
+	if err != nil {
+		return nil, err
 	}
+	var cws []window.Window
+	for w := range it {
+		cws = append(cws, w)
+	}
+	blocks := make([][]nnItem, len(cws))
+	parallel(len(cws), func(i int) {
+		w := cws[i]
+		blocks[i] = h.cleanBlock(w, beats[w.Lo:w.Hi], gapsIn(gaps, w.Start, w.End))
+	})
+	var items []nnItem
+	for _, b := range blocks {
+		items = append(items, b...)
+	}
+	itimes := make([]float64, len(items))
+	for i := range items {
+		itimes[i] = items[i].t
+	}
+	it2, err := g.Events(itimes, end, gaps)
+	if err != nil {
+		return nil, err
+	}
+	var ws []window.Window
+	for w := range it2 {
+		ws = append(ws, w)
+	}
+	out := make([]famResult, len(ws))
+	parallel(len(ws), func(i int) {
+		w := ws[i]
+		out[i] = f.runItems(h, w, items[w.Lo:w.Hi])
+	})
 	return out, nil
+}
+
+// gapsIn returns the gaps overlapping [lo, hi), from a sorted list.
+func gapsIn(gaps []window.Interval, lo, hi float64) []window.Interval {
+	i := sort.Search(len(gaps), func(i int) bool { return gaps[i].End > lo })
+	j := i
+	for j < len(gaps) && gaps[j].Start < hi {
+		j++
+	}
+	return gaps[i:j]
+}
+
+// parallel calls fn(0..n-1) on up to GOMAXPROCS goroutines.
+func parallel(n int, fn func(i int)) {
+	workers := min(runtime.GOMAXPROCS(0), n)
+	if workers <= 1 {
+		for i := range n {
+			fn(i)
+		}
+		return
+	}
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	next := 0
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				mu.Lock()
+				i := next
+				next++
+				mu.Unlock()
+				if i >= n {
+					return
+				}
+				fn(i)
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 func lastTime(t []float64) float64 {
@@ -216,42 +372,37 @@ func lastTime(t []float64) float64 {
 	return t[len(t)-1]
 }
 
-// runEvents is runWindow for an event family with one input: invalid
-// windows keep empty values and the engine's reason.
-func (f *family) runEvents(w window.Window, beats []beat, gaps []window.Interval, length float64, detected bool) famResult {
+// runItems is runWindow for the HRV window w: invalid windows keep empty
+// values (but their counts) and the engine's reason.
+func (f *family) runItems(h hrvSetup, w window.Window, items []nnItem) famResult {
 	return f.runWindowWith([]seg{{w: w, ok: true}}, func(out cells, valid bool) string {
-		if !valid {
-			out.v[0] = float64(len(beats))
-			return ""
-		}
-		return hrvCore(w, beats, gaps, length, detected, out)
+		return h.hrvCore(w, items, valid, out)
 	})
 }
 
-// hrvDriver streams the HRV family: samples go to the streaming detector,
-// its beats and gaps to the engine's event stream once they are final, and
-// each released window to hrvCore, as in batch.
+// hrvDriver streams the HRV family: samples go to the streaming detector;
+// its beats and gaps go to the cleaning grid's event stream once final;
+// each released cleaning window's block goes to the HRV grid's event
+// stream; each released HRV window goes to hrvCore, as in batch.
 type hrvDriver struct {
-	f      *family
-	det    *ecg.Detector
-	es     *window.Stream[beat]
-	rate   float64
-	length float64
-
-	n       int               // samples pushed
-	pending []beat            // beats not yet passed to the engine
-	pgaps   []window.Interval // gaps not yet passed to the engine
-	gaps    []window.Interval // gaps passed, kept while a window may need them
-	known   float64           // the engine has everything before this time
-	last    int64
-	ended   bool
-
-	// The current run of identical (or invalid) samples and the runs that
-	// ended recently: the detector reports a gap only when it has ended, so
-	// nothing is passed on past the start of a run that may still become one.
-	runStart int
+	f        *family
+	h        hrvSetup
+	det      *ecg.Detector
+	es1      *window.Stream[beat]
+	es2      *window.Stream[nnItem]
+	rate     float64
+	n        int               // samples pushed
+	pending  []beat            // beats not yet passed to es1
+	pgaps    []window.Interval // gaps not yet passed to es1
+	gaps1    []window.Interval // gaps passed to es1, kept while a cleaning window may need them
+	gaps2    []window.Interval // gaps passed to es1, not yet to es2
+	known1   float64
+	known2   float64
+	last     int64
+	ended    bool
+	runStart int // the current run of identical or invalid samples
 	prev     float64
-	runs     [][2]int
+	runs     [][2]int // such runs that ended recently
 }
 
 func (d *hrvDriver) push(_ int, x []float64, gaps []window.Interval) ([]famResult, error) {
@@ -262,10 +413,11 @@ func (d *hrvDriver) push(_ int, x []float64, gaps []window.Interval) ([]famResul
 	d.track(x)
 	d.n += len(x)
 	d.add(b, gaps)
-	return d.feed(d.safe())
+	return d.feed(d.safe(), math.Inf(1))
 }
 
-// track follows runs of identical or non-finite samples.
+// track follows runs of identical or non-finite samples: the detector
+// reports a gap (invalid samples, flat line) only when it has ended.
 func (d *hrvDriver) track(x []float64) {
 	for i, v := range x {
 		j := d.n + i
@@ -311,65 +463,94 @@ func (d *hrvDriver) add(b []ecg.Beat, gaps []window.Interval) {
 	sort.SliceStable(d.pgaps, func(i, j int) bool { return d.pgaps[i].Start < d.pgaps[j].Start })
 }
 
-// feed passes beats and gaps before t to the engine in time order, advances
-// it to t and computes the windows it releases.
-func (d *hrvDriver) feed(t float64) ([]famResult, error) {
+// feed passes beats and gaps before t to the cleaning stream in time order,
+// advances it to t, and moves released blocks on; ext caps the HRV stream's
+// advance (the data end at Close).
+func (d *hrvDriver) feed(t, ext float64) ([]famResult, error) {
 	bi, gi := 0, 0
 	for {
-		nextB, nextG := math.Inf(1), math.Inf(1)
+		nb, ng := math.Inf(1), math.Inf(1)
 		if bi < len(d.pending) && d.pending[bi].t < t {
-			nextB = d.pending[bi].t
+			nb = d.pending[bi].t
 		}
 		if gi < len(d.pgaps) && d.pgaps[gi].Start < t {
-			nextG = d.pgaps[gi].Start
+			ng = d.pgaps[gi].Start
 		}
-		if math.IsInf(nextB, 1) && math.IsInf(nextG, 1) {
+		if math.IsInf(nb, 1) && math.IsInf(ng, 1) {
 			break
 		}
-		if nextG <= nextB {
+		if ng <= nb {
 			g := d.pgaps[gi]
 			gi++
-			if err := d.es.Gap(g); err != nil {
+			if err := d.es1.Gap(g); err != nil {
 				return nil, err
 			}
-			d.gaps = append(d.gaps, g)
-			d.known = math.Max(d.known, g.Start)
+			d.gaps1 = append(d.gaps1, g)
+			d.gaps2 = append(d.gaps2, g)
+			d.known1 = math.Max(d.known1, g.Start)
 			continue
 		}
-		if err := d.es.Push(d.pending[bi]); err != nil {
+		if err := d.es1.Push(d.pending[bi]); err != nil {
 			return nil, err
 		}
-		d.known = math.Max(d.known, d.pending[bi].t)
+		d.known1 = math.Max(d.known1, nb)
 		bi++
 	}
-	d.pending = d.pending[bi:]
-	d.pgaps = d.pgaps[gi:]
-	if t > d.known && !math.IsInf(t, 1) {
-		if err := d.es.Advance(t); err != nil {
+	d.pending, d.pgaps = d.pending[bi:], d.pgaps[gi:]
+	if !math.IsInf(t, 1) && t > d.known1 {
+		if err := d.es1.Advance(t); err != nil {
 			return nil, err
 		}
-		d.known = t
+		d.known1 = t
 	}
-	return d.collect(), nil
+	return d.blocks(ext)
 }
 
-func (d *hrvDriver) collect() []famResult {
-	var out []famResult
-	for w, items := range d.es.Ready() {
-		gs, err := window.NormalizeGaps(d.gaps)
+// blocks cleans every released cleaning window and passes its block (and
+// the gaps starting before the block end) to the HRV stream.
+func (d *hrvDriver) blocks(ext float64) ([]famResult, error) {
+	for w, beats := range d.es1.Ready() {
+		gs, err := window.NormalizeGaps(d.gaps1)
 		if err != nil {
-			gs = d.gaps
+			return nil, err
 		}
-		out = append(out, d.f.runEvents(w, items, gs, d.length, true))
-		d.last = w.Seq
-		// Gaps ending before the next window's start are no longer needed.
+		items := d.h.cleanBlock(w, beats, gapsIn(gs, w.Start, w.End))
+		be := math.Min(w.End-nnMarginSteps*d.h.step, ext)
+		ii, gi := 0, 0
+		for ii < len(items) || (gi < len(d.gaps2) && d.gaps2[gi].Start < be) {
+			if gi < len(d.gaps2) && d.gaps2[gi].Start < be && (ii == len(items) || d.gaps2[gi].Start <= items[ii].t) {
+				if err := d.es2.Gap(d.gaps2[gi]); err != nil {
+					return nil, err
+				}
+				d.known2 = math.Max(d.known2, d.gaps2[gi].Start)
+				gi++
+				continue
+			}
+			if err := d.es2.Push(items[ii]); err != nil {
+				return nil, err
+			}
+			d.known2 = math.Max(d.known2, items[ii].t)
+			ii++
+		}
+		d.gaps2 = d.gaps2[gi:]
+		if be > d.known2 {
+			if err := d.es2.Advance(be); err != nil {
+				return nil, err
+			}
+			d.known2 = be
+		}
 		k := 0
-		for k < len(d.gaps) && d.gaps[k].End < w.Start {
+		for k < len(d.gaps1) && d.gaps1[k].End < w.Start+d.h.step {
 			k++
 		}
-		d.gaps = d.gaps[k:]
+		d.gaps1 = d.gaps1[k:]
 	}
-	return out
+	var out []famResult
+	for w, items := range d.es2.Ready() {
+		out = append(out, d.f.runItems(d.h, w, items))
+		d.last = w.Seq
+	}
+	return out, nil
 }
 
 func (d *hrvDriver) close() ([]famResult, error) {
@@ -378,20 +559,41 @@ func (d *hrvDriver) close() ([]famResult, error) {
 		return nil, err
 	}
 	d.add(b, nil)
-	out, err := d.feed(math.Inf(1))
+	ext := float64(d.n) / d.rate
+	out, err := d.feed(math.Inf(1), ext)
 	if err != nil {
 		return nil, err
 	}
-	ext := float64(d.n) / d.rate
-	if ext > d.known {
-		if err := d.es.Advance(ext); err != nil {
+	if ext > d.known1 {
+		if err := d.es1.Advance(ext); err != nil {
+			return nil, err
+		}
+		d.known1 = ext
+	}
+	if err := d.es1.Close(); err != nil {
+		return nil, err
+	}
+	rest, err := d.blocks(ext)
+	if err != nil {
+		return nil, err
+	}
+	out = append(out, rest...)
+	for _, g := range d.gaps2 {
+		if err := d.es2.Gap(g); err != nil {
 			return nil, err
 		}
 	}
-	if err := d.es.Close(); err != nil {
+	if ext > d.known2 {
+		if err := d.es2.Advance(ext); err != nil {
+			return nil, err
+		}
+	}
+	if err := d.es2.Close(); err != nil {
 		return nil, err
 	}
-	out = append(out, d.collect()...)
+	for w, items := range d.es2.Ready() {
+		out = append(out, d.f.runItems(d.h, w, items))
+	}
 	d.ended = true
 	return out, nil
 }
