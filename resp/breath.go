@@ -163,11 +163,12 @@ type Options struct {
 	// (common practice, methods reference 5.2). Extrema are then located on
 	// the low-passed signal, so the high-pass does not shift them.
 	HighpassHz float64
-	// HysteresisFrac sets the adaptive threshold: the detection signal must
-	// swing beyond +-HysteresisFrac times the median amplitude of the last
-	// ten breaths, so breaths smaller than about twice that fraction are not
-	// counted: 0.15 when zero (common practice: 15-30 %, methods reference
-	// 5.2).
+	// HysteresisFrac sets the adaptive threshold: a breath must rise from
+	// its trough and fall from its peak by 2*HysteresisFrac times the median
+	// amplitude of the last ten clean breaths, so breaths smaller than 30 %
+	// of the recent ones are not counted (they are left to event scoring as
+	// pause excursions): 0.15 when zero (common practice: accept a breath at
+	// 15-30 % of the recent median, methods reference 5.2).
 	HysteresisFrac float64
 	// MinBreathS is the shortest accepted breath (s): 0.8 when zero
 	// (75 breaths/min, above hard-exercise rates; common practice).

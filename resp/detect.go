@@ -23,12 +23,17 @@ import (
 // comparison. Reported times are corrected for the low-pass delay at low
 // frequency (sqrt(2)/(2*pi*fc) for order 2; 0.11 s at 2 Hz).
 //
-// Segmentation is by alternating extrema with an adaptive hysteresis (methods
-// reference 5.2, common practice): the detection signal must cross
-// +-HysteresisFrac times the median amplitude of the last ten clean breaths;
-// after 15 s with no breath that reference decays (time constant 30 s, to a
-// quarter) so a lasting fall of amplitude is followed. A flat trough longer
-// than PauseMinS is split into end of expiration, pause and next onset.
+// Segmentation is by alternating extrema with an adaptive threshold (methods
+// reference 5.2, common practice): a peak is confirmed when the sum has
+// fallen from it, and a trough when the sum has risen from it, by
+// 2*HysteresisFrac times the median amplitude of the last ten clean breaths
+// (the drift-removed detection signal sets that reference until three
+// breaths are known). Measuring from the last extremum rather than from a
+// baseline keeps shallow breaths after deep ones, and breaths on a drifting
+// baseline, detectable. After 15 s with no breath the reference decays (time
+// constant 30 s, to a quarter) so a lasting fall of amplitude is followed. A
+// flat trough longer than PauseMinS is split into end of expiration, pause
+// and next onset.
 func Detect(rib, abd []float64, opt Options) (Result, error) {
 	if len(rib) != len(abd) {
 		return Result{}, fmt.Errorf("resp: %d rib-cage and %d abdominal samples: %w", len(rib), len(abd), ErrInput)
@@ -133,6 +138,7 @@ type core struct {
 	runR, runA, clipN, flatN int
 
 	state        int
+	iHi, iLo     int // running extremes before the first transition
 	onset, peak  int
 	ext          int
 	quietFrom    int
@@ -300,6 +306,7 @@ func (c *core) step(rib, abd float64) {
 		c.hfS.Reset(c.a*rib + c.b*abd)
 		c.started = true
 		c.startN = c.n
+		c.iHi, c.iLo = c.n, c.n
 		c.lastAccept = c.n
 		c.warmHi, c.warmLo = 0, 0
 		c.lastR, c.lastA = math.NaN(), math.NaN()
@@ -351,10 +358,16 @@ func (c *core) step(rib, abd float64) {
 
 	switch c.state {
 	case stInit:
-		if d > h {
-			c.state, c.ext = stHigh, n
-		} else if d < -h {
+		if m > c.m[c.iHi&c.mask] {
+			c.iHi = n
+		}
+		if m < c.m[c.iLo&c.mask] {
+			c.iLo = n
+		}
+		if m < c.m[c.iHi&c.mask]-2*h {
 			c.state, c.ext = stLow, n
+		} else if m > c.m[c.iLo&c.mask]+2*h {
+			c.state, c.ext = stHigh, n
 		}
 	case stHigh:
 		if m > c.m[c.ext&c.mask] {
@@ -367,7 +380,7 @@ func (c *core) step(rib, abd float64) {
 		if c.onset < 0 && n-c.ext > c.cap/2 {
 			c.ext = n
 		}
-		if d < -h {
+		if m < c.m[c.ext&c.mask]-2*h {
 			c.peak = c.ext
 			if c.onset < 0 {
 				c.peak = -1 // no onset: this half breath is not a breath
@@ -390,7 +403,7 @@ func (c *core) step(rib, abd float64) {
 				c.quietFrom += c.spanN
 			}
 		}
-		if d > h {
+		if m > c.m[c.ext&c.mask]+2*h {
 			c.rise(ref)
 			c.state, c.ext = stHigh, n
 		}
@@ -403,6 +416,11 @@ func (c *core) step(rib, abd float64) {
 // the recent median Te plus 1 s, searched no further than to), so a floor
 // drifting down during a long pause does not drag it late.
 func (c *core) endExpAt(from, to int, tol float64) int {
+	i, _ := c.endExpFloor(from, to, tol)
+	return i
+}
+
+func (c *core) endExpFloor(from, to int, tol float64) (int, float64) {
 	hi := min(to, from+int((1.5*c.medTe+1)*c.fs))
 	lo := math.Inf(1)
 	for i := from; i <= hi; i++ {
@@ -412,16 +430,16 @@ func (c *core) endExpAt(from, to int, tol float64) int {
 	}
 	for i := from; i <= hi; i++ {
 		if c.m[i&c.mask] <= lo+tol {
-			return i
+			return i, lo
 		}
 	}
-	return hi
+	return hi, lo
 }
 
 // onsetAt returns the inspiration onset before the rise detected at c.n: the
 // last sample within tol of the floor of the preceding span of max(2 s, 1.5
 // times the recent median Ti), never before from.
-func (c *core) onsetAt(from int, tol float64) int {
+func (c *core) onsetAt(from int, tol float64) (int, float64) {
 	lo := max(from, c.n-int(math.Max(2, 1.5*c.medTi)*c.fs))
 	fl := math.Inf(1)
 	for j := lo; j <= c.n; j++ {
@@ -431,10 +449,10 @@ func (c *core) onsetAt(from int, tol float64) int {
 	}
 	for j := c.n; j >= lo; j-- {
 		if c.m[j&c.mask] <= fl+tol {
-			return j
+			return j, fl
 		}
 	}
-	return lo
+	return lo, fl
 }
 
 // rise handles the switch from expiration to inspiration at sample c.n.
@@ -448,16 +466,26 @@ func (c *core) rise(ref float64) {
 	} else if c.quietFrom >= 0 {
 		from = c.quietFrom
 	}
-	next := c.onsetAt(from, tol)
-	endExp := next
+	next, flOn := c.onsetAt(from, tol)
+	endExp, flEnd := next, flOn
 	if c.peak >= 0 {
-		endExp = c.endExpAt(c.peak, next, tol)
+		endExp, flEnd = c.endExpFloor(c.peak, next, tol)
 	}
 	// A trough is split into end of expiration, pause and onset only when
 	// the flat part is long: PauseMinS, or half the recent breath length
 	// for slow breathing.
 	if next-endExp < max(c.pauseMinN, int(0.5*c.medTtot*c.fs)) {
 		endExp, next = tr, tr
+	} else {
+		// Found with the coarse tolerance; place both ends where the sum
+		// comes within a tenth of it (1 % of the amplitude) of the floor.
+		fine := tol / 10
+		for endExp < next && c.m[endExp&c.mask] > flEnd+fine {
+			endExp++
+		}
+		for next > endExp && c.m[next&c.mask] > flOn+fine {
+			next--
+		}
 	}
 	switch {
 	case c.peak >= 0 && c.onset >= 0:

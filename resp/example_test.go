@@ -22,8 +22,7 @@ func exampleBands() (rib, abd []float64) {
 
 func ExampleDetect() {
 	rib, abd := exampleBands()
-	// 30 cycles: the half breath at the start and the breath still in
-	// progress at the end are not counted.
+	// 30 cycles: the breath still in progress at the end is not counted.
 	r, err := resp.Detect(rib, abd, resp.Options{RateHz: 25})
 	if err != nil {
 		fmt.Println(err)
@@ -32,7 +31,7 @@ func ExampleDetect() {
 	b := r.Breaths[5]
 	fmt.Printf("%d breaths; breath 5: Ti %.1f s, Te %.1f s, %.0f/min, Vt %.2f AU (litres: %v)\n",
 		len(r.Breaths), b.TiS, b.TeS, b.RatePerMin, b.VtAU, b.VtL)
-	// Output: 28 breaths; breath 5: Ti 2.0 s, Te 2.0 s, 15/min, Vt 2.00 AU (litres: NaN)
+	// Output: 29 breaths; breath 5: Ti 2.0 s, Te 2.0 s, 15/min, Vt 2.00 AU (litres: NaN)
 }
 
 func ExampleStream() {
@@ -47,7 +46,7 @@ func ExampleStream() {
 	_ = s.Close()
 	breaths, _, _ = s.Drain(breaths, nil, nil)
 	fmt.Println(len(breaths), "breaths, the same as Detect")
-	// Output: 28 breaths, the same as Detect
+	// Output: 29 breaths, the same as Detect
 }
 
 func ExampleQDCFromRises() {
@@ -85,12 +84,12 @@ func ExampleDetectEvents() {
 	}
 	r, _ := resp.Detect(rib, abd, resp.Options{RateHz: fs})
 	ev, _ := resp.DetectEvents(r, resp.EventOptions{})
-	// The event runs from where the sum comes within 10 % (PauseTolFrac) of
-	// its trough to where it leaves it: a little longer than the 20 s.
+	// The event runs from where the sum comes within 1 % of its amplitude of
+	// the trough to where it leaves it: a little longer than the 20 s.
 	for _, e := range ev {
 		fmt.Printf("candidate %v %v from %.1f s for %.1f s\n", e.Class, e.Kind, e.Start, e.DurationS)
 	}
-	// Output: candidate obstructive apnea from 118.6 s for 20.8 s
+	// Output: candidate obstructive apnea from 118.9 s for 20.2 s
 }
 
 func ExampleWindows() {
