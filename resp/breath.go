@@ -159,9 +159,11 @@ type Options struct {
 	// breathing up to ~60/min within 3 % of its amplitude.
 	LowpassHz float64
 	// HighpassHz is the cut-off of the order-1 Butterworth high-pass that
-	// removes slow drift from the detection signal: 0.05 Hz when zero
-	// (common practice, methods reference 5.2). Extrema are then located on
-	// the low-passed signal, so the high-pass does not shift them.
+	// removes slow drift from the band copies used for the phase angles
+	// and for the start-up amplitude reference: 0.05 Hz when zero (common
+	// practice, methods reference 5.2). Extrema, volumes and excursions are
+	// taken on the low-passed signal only, so the high-pass shifts none of
+	// them; drift slower than a breath does not disturb the extremum test.
 	HighpassHz float64
 	// HysteresisFrac sets the adaptive threshold: a breath must rise from
 	// its trough and fall from its peak by 2*HysteresisFrac times the median

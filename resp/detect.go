@@ -18,9 +18,10 @@ import (
 // Conditioning (documented bands): each band is low-passed (order-2
 // Butterworth, Options.LowpassHz, 2 Hz by default) and the weighted sum of the
 // low-passed bands is the volume signal on which peaks and troughs are
-// located; a detection copy is also high-passed (order-1 Butterworth,
-// Options.HighpassHz, 0.05 Hz) to remove drift before the hysteresis
-// comparison. Reported times are corrected for the low-pass delay at low
+// located and volumes measured; copies of the bands are also high-passed
+// (order-1 Butterworth, Options.HighpassHz, 0.05 Hz) to remove drift for the
+// phase angles. Motion is the band sum's energy above the low-pass band.
+// Reported times are corrected for the low-pass delay at low
 // frequency (sqrt(2)/(2*pi*fc) for order 2; 0.11 s at 2 Hz).
 //
 // Segmentation is by alternating extrema with an adaptive threshold (methods

@@ -248,18 +248,16 @@ func Summarize(w window.Window, breaths []Breath, events []Event, opt SummaryOpt
 	}
 	s.values[colRate] = 60 * float64(n) / sumT
 	s.values[colRateCV] = cvPct(rate)
-	s.values[colRateIQR] = iqr(rate)
-	s.values[colVtAU] = median(vt)
+	_, s.values[colRateIQR] = sortedStats(rate)
 	s.values[colVtCV] = cvPct(vt)
-	s.values[colVtIQRAU] = iqr(vt)
+	s.values[colVtAU], s.values[colVtIQRAU] = sortedStats(vt)
 	s.values[colVEAU] = 60 * sumVt / sumT
-	s.values[colTi] = median(ti)
-	s.values[colTe] = median(te)
-	s.values[colTiTtot] = median(duty)
+	s.values[colTi], _ = sortedStats(ti)
+	s.values[colTe], _ = sortedStats(te)
 	s.values[colTiTtotCV] = cvPct(duty)
-	s.values[colTiTtotIQR] = iqr(duty)
-	s.values[colFlowAU] = median(flow)
+	s.values[colTiTtot], s.values[colTiTtotIQR] = sortedStats(duty)
 	s.values[colFlowCV] = cvPct(flow)
+	s.values[colFlowAU], _ = sortedStats(flow)
 	// Breath volumes in litres exist only under an absolute calibration
 	// (Breath.VtL is NaN otherwise); then VtL equals VtAU.
 	if litres {
@@ -272,8 +270,8 @@ func Summarize(w window.Window, breaths []Breath, events []Event, opt SummaryOpt
 			s.reason[c] = "uncalibrated: volumes are in arbitrary units (see the _au columns)"
 		}
 	}
-	s.values[colPhaseXC] = median(pxc)
-	s.values[colPhaseLis] = median(plis)
+	s.values[colPhaseXC], _ = sortedStats(pxc)
+	s.values[colPhaseLis], _ = sortedStats(plis)
 	if len(pxc) == 0 {
 		s.reason[colPhaseXC] = "phase undefined for every breath"
 	}
@@ -297,7 +295,24 @@ func cvPct(x []float64) float64 {
 	return 100 * sd / math.Abs(m)
 }
 
-func iqr(x []float64) float64 { return quantile(x, 0.75) - quantile(x, 0.25) }
+// sortedStats sorts x in place and returns its median and interquartile
+// range (type-7 quantiles); NaN for an empty x.
+func sortedStats(x []float64) (med, iqr float64) {
+	if len(x) == 0 {
+		return math.NaN(), math.NaN()
+	}
+	sort.Float64s(x)
+	return sortedQuantile(x, 0.5), sortedQuantile(x, 0.75) - sortedQuantile(x, 0.25)
+}
+
+func sortedQuantile(s []float64, q float64) float64 {
+	h := q * float64(len(s)-1)
+	lo := int(math.Floor(h))
+	if lo >= len(s)-1 {
+		return s[len(s)-1]
+	}
+	return s[lo] + (h-float64(lo))*(s[lo+1]-s[lo])
+}
 
 // Windows lays grid over the breath onsets of r (its gaps reduce each
 // window's coverage) for a recording whose band data end at endS seconds,
