@@ -291,3 +291,39 @@ func TestEDFWriteReadRoundTrip(t *testing.T) {
 		t.Errorf("re-written EDF differs")
 	}
 }
+
+func TestEDFWriteAnnotationOnlyAndEmpty(t *testing.T) {
+	rec := &Recording{Name: "notes", Start: time.Date(2026, 6, 1, 5, 0, 0, 0, time.UTC), StartKnown: true}
+	for i := 0; i < 40; i++ { // more annotations than fit one record's default space
+		rec.Annotations = append(rec.Annotations, Annotation{Time: float64(i) * 0.5, Sample: -1, Text: fmt.Sprintf("split %d of the hill repeats", i)})
+	}
+	var buf bytes.Buffer
+	if err := WriteEDF(&buf, rec, EDFWriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	back, err := Open(writeTemp(t, "notes.edf", buf.Bytes()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(back.Channels) != 0 || len(back.Annotations) != 40 || back.Annotations[39].Text != "split 39 of the hill repeats" || back.Annotations[39].Time != 19.5 {
+		t.Fatalf("%d channels, %d annotations", len(back.Channels), len(back.Annotations))
+	}
+	empty := &Recording{Name: "empty", Channels: []Channel{{Name: "ECG", Unit: "mV", RateHz: 128}}}
+	buf.Reset()
+	if err := WriteEDF(&buf, empty, EDFWriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	back, err = Open(writeTemp(t, "empty.edf", buf.Bytes()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// One record of padding, all invalid; the unknown start is written as
+	// the EDF+ anonymous 01.01.85 00.00.00.
+	if c := back.Channels[0]; len(c.Samples) != 128 || !math.IsNaN(c.Samples[0]) || back.Start.Year() != 1985 {
+		t.Errorf("empty channel: %d samples, start %v", len(c.Samples), back.Start)
+	}
+	bad := &Recording{Channels: []Channel{{Name: "x", RateHz: 0.3333}}}
+	if err := WriteEDF(&buf, bad, EDFWriteOptions{}); !errors.Is(err, ErrFormat) {
+		t.Errorf("rate without a whole-sample record: %v", err)
+	}
+}

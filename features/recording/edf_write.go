@@ -81,6 +81,7 @@ func WriteEDF(w io.Writer, rec *Recording, opt EDFWriteOptions) error {
 	if len(rec.Channels) == 0 {
 		nRec = int64(math.Ceil(rec.Duration()/d)) + 1
 	}
+	nRec = max(nRec, 1)
 	if nRec > 99999999 {
 		return fmt.Errorf("edf write %s: %d data records do not fit the 8-character field: %w", rec.Name, nRec, ErrTooLarge)
 	}

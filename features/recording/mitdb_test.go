@@ -96,6 +96,11 @@ func TestRecord100Open(t *testing.T) {
 		if a := rec.Annotations[0]; a.Code != "+" || a.Text != "(N" || a.Sample != 18 {
 			t.Errorf("first annotation %+v, want rhythm (N at sample 18 (100.atr)", a)
 		}
+		// First beat: N at sample 77, 0.214 s (record 100 reference
+		// annotations, from memory).
+		if a := rec.Annotations[1]; a.Code != "N" || a.Sample != 77 || math.Abs(a.Time-77.0/360) > 1e-12 {
+			t.Errorf("first beat %+v, want N at sample 77", a)
+		}
 		if c, ok := rec.Channel(recording.RoleECG); !ok || c.Name != "MLII" {
 			t.Errorf("Channel(RoleECG) = %v, %v", c, ok)
 		}
