@@ -97,7 +97,7 @@ func TestStreamMatchesBatch(t *testing.T) {
 	}
 	disc := filepath.Join(dir, "disc.edf")
 	os.WriteFile(disc, handEDF("0       ", "EDF+D", "01.06.26", "07.00.00", "5", "1", sig, d), 0o644)
-	paths := []string{"testdata/formats", "testdata/multi", "testdata/annonly", demo, disc}
+	paths := []string{"testdata/formats", "testdata/multi", "testdata/annonly", "testdata/watch.csv", demo, disc}
 	if d := refdata.SharedDir(); d != "" {
 		paths = append(paths, filepath.Join(d, "physionet/mitdb/100"))
 	}

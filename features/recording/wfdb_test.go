@@ -1,6 +1,7 @@
 package recording
 
 import (
+	"bytes"
 	"errors"
 	"math"
 	"os"
@@ -262,5 +263,22 @@ func TestOpenOptions(t *testing.T) {
 	rec, _ = OpenWith("testdata/formats", Options{Start: start})
 	if rec.Start.Equal(start) {
 		t.Errorf("option overrode the file's start")
+	}
+}
+
+func TestMITTimeResolutionNote(t *testing.T) {
+	// A leading note "## time resolution: F" gives the annotation tick
+	// (WFDB high-resolution annotation files, from memory).
+	anns := []Annotation{{Sample: 0, Code: "\"", Text: "## time resolution: 1000"}, {Sample: 1500, Code: "N"}}
+	var b bytes.Buffer
+	if err := WriteWFDBAnnotations(&b, anns, 250); err != nil {
+		t.Fatal(err)
+	}
+	got, err := ParseWFDBAnnotations(b.Bytes(), 250)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got[1].Time != 1.5 {
+		t.Errorf("beat at sample 1500 of a 1000 Hz tick: %v s, want 1.5", got[1].Time)
 	}
 }
