@@ -79,7 +79,8 @@ func labelKey(s string) string {
 // intervals "rhythm_afib" lasting until the next rhythm change or the end;
 // other non-beat annotations become intervals named by their text (or code)
 // with their own duration (EDF+ annotations; WFDB point events). Beat
-// annotations are not labels. end is the recording extent in seconds.
+// annotations are not labels. end is the recording extent in seconds. The
+// labels are sorted by start.
 func AnnotationLabels(rec *recording.Recording, end float64) []Label {
 	origin := originOf(rec)
 	at := func(s float64) time.Time { return origin.Add(time.Duration(math.Round(s * 1e9))) }
@@ -113,6 +114,7 @@ func AnnotationLabels(rec *recording.Recording, end float64) []Label {
 		rhythm.End = at(math.Max(end, rhythm.Start.Sub(origin).Seconds()))
 		out = append(out, *rhythm)
 	}
+	sort.SliceStable(out, func(i, j int) bool { return out[i].Start.Before(out[j].Start) })
 	return out
 }
 
