@@ -404,7 +404,10 @@ func newEDFReader(f *os.File, path string) (*Reader, error) {
 	case data > records*rb:
 		warns = append(warns, fmt.Errorf("edf %s: %d bytes after the last of %d data records ignored: %w", path, data-records*rb, records, ErrData))
 	}
-	s := &edfSource{name: path, f: f, h: h, records: records, buf: make([]byte, rb)}
+	s := &edfSource{name: path, f: f, h: h, records: records}
+	if records > 0 {
+		s.buf = make([]byte, rb) // the file holds at least this many bytes (checked above)
+	}
 	info := Recording{Name: strings.TrimSuffix(filepath.Base(path), filepath.Ext(path)), Start: h.Start, StartKnown: true}
 	switch {
 	case h.BDF && h.Plus:

@@ -139,13 +139,21 @@ func TestLyingHeadersAllocateLittle(t *testing.T) {
 	edf := handEDF("0       ", "", "01.06.26", "07.00.00", "99999999", "1", []edfSig{{"ECG", "mV", "-1", "1", "-32768", "32767", 30000}}, make([]byte, 64))
 	os.WriteFile(filepath.Join(dir, "lie.edf"), edf, 0o644)
 	os.WriteFile(filepath.Join(dir, "lie.csv"), []byte("t,x\n0,1\n0.001,2\n0.002,3\n9999999,4\n"), 0o644)
-	for _, p := range []string{"lie", "lie.edf", "lie.csv"} {
+	// A 60 MB data record announced by a header-only file ("-1" records:
+	// count from the file, which holds none).
+	big := handEDF("0       ", "", "01.06.26", "07.00.00", "-1", "1", []edfSig{{"ECG", "mV", "-1", "1", "-32768", "32767", 30000000}}, nil)
+	os.WriteFile(filepath.Join(dir, "big.edf"), big, 0o644)
+	for _, p := range []string{"lie", "lie.edf", "lie.csv", "big.edf"} {
 		var before, after runtime.MemStats
 		runtime.GC()
 		runtime.ReadMemStats(&before)
-		_, err := Open(filepath.Join(dir, p))
+		rec, err := Open(filepath.Join(dir, p))
 		runtime.ReadMemStats(&after)
-		if err == nil {
+		if p == "big.edf" {
+			if err != nil || len(rec.Channels[0].Samples) != 0 {
+				t.Errorf("%s: %v", p, err)
+			}
+		} else if err == nil {
 			t.Errorf("%s: lying header accepted", p)
 		}
 		if got := after.TotalAlloc - before.TotalAlloc; got > 1<<20 {

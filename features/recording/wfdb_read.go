@@ -1,7 +1,6 @@
 package recording
 
 import (
-	"bufio"
 	"fmt"
 	"io"
 	"os"
@@ -116,7 +115,7 @@ type wfdbSource struct {
 type wfdbGroup struct {
 	path         string
 	f            *os.File
-	r            io.Reader
+	r            io.Reader // the bytes the record needs, read in blocks of len(buf)
 	format       int
 	first, n     int   // signals first..first+n-1
 	owner        []int // owner[k]: signal of the k-th sample of a frame
@@ -221,9 +220,10 @@ func newWFDBSource(h *WFDBHeader, dir, hea string, strict bool) (*wfdbSource, er
 		}
 		need := bytesForSamples(g.format, (s.frames+maxSkew)*int64(g.frameSamples))
 		off := h.Signals[g.first].Offset
-		g.r = bufio.NewReaderSize(io.NewSectionReader(g.f, off, need), 1<<16)
+		g.r = io.NewSectionReader(g.f, off, need)
 		info := wfdbFormats[g.format]
-		g.buf = make([]byte, (1<<16)/info.groupBytes*info.groupBytes)
+		gb := int64(info.groupBytes)
+		g.buf = make([]byte, min((1<<16)/gb, (need+gb-1)/gb+1)*gb) // no larger than the data to read
 	}
 	return s, nil
 }
