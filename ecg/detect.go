@@ -801,7 +801,9 @@ func (c *core) classify(cd candidate) {
 			c.noisePeak(cd, false)
 			return
 		}
-		c.declare(cd, false)
+		if !c.declare(cd, false) {
+			c.noisePeak(cd, false)
+		}
 		return
 	}
 	c.noisePeak(cd, true)
@@ -841,14 +843,49 @@ func (c *core) searchBack(n int) {
 	rest := append([]candidate(nil), c.noise[best+1:]...)
 	cd := c.noise[best]
 	cd.searched = true
-	c.declare(cd, true)
+	c.noise = c.noise[:0]
+	if !c.declare(cd, true) {
+		// Its R-peak fell within the refractory period of the last beat:
+		// nothing to recover here; wait another limit.
+		c.sbRef = n
+		c.updSB()
+	}
 	for _, r := range rest {
 		c.classify(r)
 	}
 }
 
 // declare accepts a candidate as a QRS complex.
-func (c *core) declare(cd candidate, sb bool) {
+func (c *core) declare(cd candidate, sb bool) bool {
+	// Polarity: a running vote of which deflection dominates each QRS.
+	pos := true
+	vote, newVote := 0.0, c.polVote
+	switch c.opt.Polarity {
+	case 1:
+	case -1:
+		pos = false
+	default:
+		if span := cd.posV - cd.negV; span > 0 {
+			vote = (cd.posV + cd.negV) / span // +1 all positive, -1 all negative
+		}
+		newVote = vote
+		if c.polSet {
+			newVote = 0.9*c.polVote + 0.1*vote
+		}
+		pos = newVote >= 0
+	}
+	r, frac := cd.posIdx, cd.posFrac
+	if !pos {
+		r, frac = cd.negIdx, cd.negFrac
+	}
+	// Two integrator peaks can point at the same QRS extremum; the R-peaks
+	// themselves must respect the refractory period too.
+	if c.haveLast && r-c.lastR < c.refN {
+		return false
+	}
+	if c.opt.Polarity == 0 {
+		c.polVote, c.polSet = newVote, true
+	}
 	if sb {
 		c.spki = 0.25*cd.peakI + 0.75*c.spki
 		c.spkf = 0.25*cd.peakF + 0.75*c.spkf
@@ -856,29 +893,7 @@ func (c *core) declare(cd candidate, sb bool) {
 		c.spki = 0.125*cd.peakI + 0.875*c.spki
 		c.spkf = 0.125*cd.peakF + 0.875*c.spkf
 	}
-	// Polarity: a running vote of which deflection dominates each QRS.
-	pos := true
-	switch c.opt.Polarity {
-	case 1:
-	case -1:
-		pos = false
-	default:
-		vote := 0.0
-		if span := cd.posV - cd.negV; span > 0 {
-			vote = (cd.posV + cd.negV) / span // +1 all positive, -1 all negative
-		}
-		if !c.polSet {
-			c.polVote, c.polSet = vote, true
-		} else {
-			c.polVote = 0.9*c.polVote + 0.1*vote
-		}
-		pos = c.polVote >= 0
-	}
-	r, frac := cd.posIdx, cd.posFrac
-	if !pos {
-		r, frac = cd.negIdx, cd.negFrac
-	}
-	if c.haveLast && r-c.lastR > 0 {
+	if c.haveLast {
 		c.addRR(float64(r - c.lastR))
 	}
 	c.haveLast = true
@@ -892,6 +907,7 @@ func (c *core) declare(cd candidate, sb bool) {
 		AmplitudemV: cd.posV - cd.negV,
 		SearchBack:  sb,
 	})
+	return true
 }
 
 // addRR updates the two RR averages (Pan and Tompkins 1985): average 1 over
