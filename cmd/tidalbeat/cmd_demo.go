@@ -6,7 +6,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 	"text/tabwriter"
 
@@ -90,35 +89,23 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-// demoRecording wraps the simulator's slices in the recording model: channel
-// names that role guessing recognises, units, the lead-off gap, and the
-// schedule's segments and the simulated apneas as annotations with a
-// duration (they become the table's label columns).
+// demoRecording wraps the simulator's signals in the recording model, roles
+// guessed from the channel names as for any file, with the schedule's
+// segments and the simulated apneas as annotations with a duration (they
+// become the table's label columns).
 func demoRecording(d *sim.DayRecording) *recording.Recording {
 	rec := &recording.Recording{Name: demoName, Start: d.Start, StartKnown: true, Format: "sim"}
-	add := func(name, unit string, rate float64, x []float64, role recording.Role, gaps []window.Interval) {
-		if x == nil {
-			return
+	for _, s := range d.Signals() {
+		var gaps []window.Interval
+		for _, g := range s.Gaps {
+			gaps = append(gaps, window.Interval{Start: g.StartS, End: g.EndS})
 		}
-		rec.Channels = append(rec.Channels, recording.Channel{Name: name, Unit: unit, RateHz: rate, Samples: x, Role: role, Gaps: gaps})
+		rec.Channels = append(rec.Channels, recording.Channel{Name: s.Name, Unit: s.Unit, RateHz: s.RateHz,
+			Samples: s.Samples, Gaps: gaps, Role: recording.GuessRole(s.Name, s.Unit)})
 	}
-	var ecgGaps []window.Interval
-	for _, g := range d.Truth.LeadOff {
-		ecgGaps = append(ecgGaps, window.Interval{Start: g.StartS, End: g.EndS})
+	for _, l := range d.Labels() {
+		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: l.StartS, Duration: l.EndS - l.StartS, Sample: -1, Text: l.Text, Annotator: "sim"})
 	}
-	add("ECG", "mV", sim.DayECGRateHz, d.ECG, recording.RoleECG, ecgGaps)
-	add("RIP rib cage", "a.u.", sim.DayBandRateHz, d.RibCage, recording.RoleRibCage, nil)
-	add("RIP abdomen", "a.u.", sim.DayBandRateHz, d.Abdomen, recording.RoleAbdomen, nil)
-	add("acc_x", "g", sim.DayAccRateHz, d.AccX, recording.RoleAccX, nil)
-	add("acc_y", "g", sim.DayAccRateHz, d.AccY, recording.RoleAccY, nil)
-	add("acc_z", "g", sim.DayAccRateHz, d.AccZ, recording.RoleAccZ, nil)
-	for _, s := range d.Truth.Segments {
-		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: s.StartS, Duration: s.EndS - s.StartS, Sample: -1, Text: s.Label, Annotator: "sim"})
-	}
-	for _, e := range d.Truth.Apneas {
-		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: e.StartS, Duration: e.EndS - e.StartS, Sample: -1, Text: "obstructive apnea", Annotator: "sim"})
-	}
-	sort.SliceStable(rec.Annotations, func(i, j int) bool { return rec.Annotations[i].Time < rec.Annotations[j].Time })
 	return rec
 }
 

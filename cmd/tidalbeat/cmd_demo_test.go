@@ -81,8 +81,12 @@ func TestDemoEndToEnd(t *testing.T) {
 	if len(rec.Channels) != len(want.Channels) {
 		t.Fatalf("EDF: %d channels, want %d", len(rec.Channels), len(want.Channels))
 	}
+	roles := []recording.Role{recording.RoleECG, recording.RoleRibCage, recording.RoleAbdomen, recording.RoleAccX, recording.RoleAccY, recording.RoleAccZ}
 	for i, c := range rec.Channels {
 		w := want.Channels[i]
+		if i < len(roles) && c.Role != roles[i] {
+			t.Errorf("EDF channel %d (%s): role %v, want %v", i, c.Name, c.Role, roles[i])
+		}
 		if c.Role != w.Role || c.RateHz != w.RateHz || len(c.Samples) != len(w.Samples) {
 			t.Errorf("EDF channel %d: %s %v %g Hz %d samples, want %s %v %g Hz %d", i, c.Name, c.Role, c.RateHz, len(c.Samples), w.Name, w.Role, w.RateHz, len(w.Samples))
 		}

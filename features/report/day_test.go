@@ -18,17 +18,16 @@ func dayRecording(t *testing.T) *recording.Recording {
 		t.Fatal(err)
 	}
 	rec := &recording.Recording{Name: "trail-day", Start: d.Start, StartKnown: true}
-	add := func(name, unit string, rate float64, x []float64, role recording.Role, gaps []window.Interval) {
-		rec.Channels = append(rec.Channels, recording.Channel{Name: name, Unit: unit, RateHz: rate, Samples: x, Role: role, Gaps: gaps})
+	for _, s := range d.Signals() {
+		var gaps []window.Interval
+		for _, g := range s.Gaps {
+			gaps = append(gaps, window.Interval{Start: g.StartS, End: g.EndS})
+		}
+		rec.Channels = append(rec.Channels, recording.Channel{Name: s.Name, Unit: s.Unit, RateHz: s.RateHz,
+			Samples: s.Samples, Gaps: gaps, Role: recording.GuessRole(s.Name, s.Unit)})
 	}
-	add("ECG", "mV", sim.DayECGRateHz, d.ECG, recording.RoleECG, []window.Interval{{Start: sim.DayLeadOff.StartS, End: sim.DayLeadOff.EndS}})
-	add("RIP rib cage", "a.u.", sim.DayBandRateHz, d.RibCage, recording.RoleRibCage, nil)
-	add("RIP abdomen", "a.u.", sim.DayBandRateHz, d.Abdomen, recording.RoleAbdomen, nil)
-	add("acc_x", "g", sim.DayAccRateHz, d.AccX, recording.RoleAccX, nil)
-	add("acc_y", "g", sim.DayAccRateHz, d.AccY, recording.RoleAccY, nil)
-	add("acc_z", "g", sim.DayAccRateHz, d.AccZ, recording.RoleAccZ, nil)
-	for _, s := range d.Truth.Segments {
-		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: s.StartS, Duration: s.EndS - s.StartS, Sample: -1, Text: s.Label})
+	for _, l := range d.Labels() {
+		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: l.StartS, Duration: l.EndS - l.StartS, Sample: -1, Text: l.Text})
 	}
 	return rec
 }

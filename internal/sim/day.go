@@ -508,3 +508,46 @@ func dayBands(tr DayTruth, seed uint64) (rib, abd []float64) {
 	cfg := BreathConfig{RateHz: DayBandRateHz, Seed: seed}
 	return BreathRender(cycles, int(DayDurationS*DayBandRateHz), cfg, rand.New(rand.NewPCG(seed, 0xba4d5)))
 }
+
+// DaySignal is one channel of the demo recording, named and in units that
+// the recording package's role guessing recognises (ECG, rib-cage and
+// abdominal bands, acc_x/y/z).
+type DaySignal struct {
+	Name, Unit string
+	RateHz     float64
+	Samples    []float64
+	Gaps       []DayInterval // known invalid spans (NaN samples), s
+}
+
+// Signals returns the recording's channels in file order.
+func (d *DayRecording) Signals() []DaySignal {
+	return []DaySignal{
+		{Name: "ECG", Unit: "mV", RateHz: DayECGRateHz, Samples: d.ECG, Gaps: d.Truth.LeadOff},
+		{Name: "RIP rib cage", Unit: "a.u.", RateHz: DayBandRateHz, Samples: d.RibCage},
+		{Name: "RIP abdomen", Unit: "a.u.", RateHz: DayBandRateHz, Samples: d.Abdomen},
+		{Name: "acc_x", Unit: "g", RateHz: DayAccRateHz, Samples: d.AccX},
+		{Name: "acc_y", Unit: "g", RateHz: DayAccRateHz, Samples: d.AccY},
+		{Name: "acc_z", Unit: "g", RateHz: DayAccRateHz, Samples: d.AccZ},
+	}
+}
+
+// DayLabel is a labelled interval of the recording.
+type DayLabel struct {
+	Text         string
+	StartS, EndS float64
+}
+
+// Labels returns the schedule's segments and the simulated apneas
+// ("obstructive apnea") as labelled intervals in time order: the
+// annotations a user would have from a diary and a scorer.
+func (d *DayRecording) Labels() []DayLabel {
+	var out []DayLabel
+	for _, s := range d.Truth.Segments {
+		out = append(out, DayLabel{Text: s.Label, StartS: s.StartS, EndS: s.EndS})
+	}
+	for _, a := range d.Truth.Apneas {
+		out = append(out, DayLabel{Text: "obstructive apnea", StartS: a.StartS, EndS: a.EndS})
+	}
+	sort.SliceStable(out, func(i, j int) bool { return out[i].StartS < out[j].StartS })
+	return out
+}
