@@ -73,6 +73,8 @@ type processor struct {
 	conv float64 // unit factor to g
 	mi   [3]int  // device index of up, left, forward
 	ms   [3]float64
+	bo   [3]float64 // body-axis offset, g
+	bs   [3]float64 // body-axis scale from raw units to g
 
 	n       int // samples processed
 	outBase int // global index of out[0]
@@ -120,6 +122,11 @@ func newProcessor(rateHz float64, opts Options) (*processor, error) {
 	}
 	for k, a := range []Axis{o.Mount.Up, o.Mount.Left, o.Mount.Forward} {
 		p.mi[k], p.ms[k] = a.index()
+		off, sc := 0.0, 1.0
+		if c := o.Calibration; c != nil {
+			off, sc = c.OffsetG[p.mi[k]], c.Scale[p.mi[k]]
+		}
+		p.bo[k], p.bs[k] = p.ms[k]*off, p.ms[k]*sc*p.conv
 	}
 	c := o.Counts
 	cc, err := dsp.ButterBandpass(2, c.LowHz, c.HighHz, rateHz)
@@ -186,13 +193,10 @@ func (p *processor) step(x, y, z float64) {
 			fl |= FlagSaturated
 		}
 	}
-	d := [3]float64{x * p.conv, y * p.conv, z * p.conv}
-	if c := p.o.Calibration; c != nil {
-		for k := range d {
-			d[k] = c.OffsetG[k] + c.Scale[k]*d[k]
-		}
-	}
-	b := [3]float64{p.ms[0] * d[p.mi[0]], p.ms[1] * d[p.mi[1]], p.ms[2] * d[p.mi[2]]}
+	// Unit, calibration and mounting folded into one affine map per body
+	// axis (newProcessor): b = offset + scale * raw device axis.
+	raw := [3]float64{x, y, z}
+	b := [3]float64{p.bo[0] + p.bs[0]*raw[p.mi[0]], p.bo[1] + p.bs[1]*raw[p.mi[1]], p.bo[2] + p.bs[2]*raw[p.mi[2]]}
 	vm := math.Sqrt(b[0]*b[0] + b[1]*b[1] + b[2]*b[2])
 	if !(vm <= maxPlausibleG) {
 		// Not a physical acceleration (or an overflow): flag it rather than
@@ -242,7 +246,12 @@ func (p *processor) step(x, y, z float64) {
 	p.out = append(p.out, Sample{VM: float32(vm), Up: float32(b[0]), Left: float32(b[1]), Forward: float32(b[2]), Count: float32(r), Flags: fl})
 
 	p.stepDetect(i, p.sf.step(vm))
-	p.posture(i, b)
+	p.psum[0] += b[0]
+	p.psum[1] += b[1]
+	p.psum[2] += b[2]
+	if p.pk++; p.pk == p.pm {
+		p.posture(i)
+	}
 }
 
 // stepDetect finds band-passed peaks above the adaptive threshold and keeps
@@ -298,13 +307,7 @@ func (p *processor) markStep(idx int) {
 
 // posture tracks the low-passed gravity direction and reports sustained
 // rotations (PostureOptions).
-func (p *processor) posture(i int, b [3]float64) {
-	p.psum[0] += b[0]
-	p.psum[1] += b[1]
-	p.psum[2] += b[2]
-	if p.pk++; p.pk < p.pm {
-		return
-	}
+func (p *processor) posture(i int) {
 	var g [3]float64
 	for k := range g {
 		g[k] = p.gf[k].Step(p.psum[k] / float64(p.pm))

@@ -58,25 +58,6 @@ type axisStats struct {
 	n, s, ss, lo, hi float64
 }
 
-func (a *axisStats) add(v, ref float64) {
-	if v-v != 0 { // NaN or infinite
-		return
-	}
-	if a.n == 0 {
-		a.lo, a.hi = v, v
-	}
-	a.n++
-	d := v - ref
-	a.s += d
-	a.ss += d * d
-	if v < a.lo {
-		a.lo = v
-	}
-	if v > a.hi {
-		a.hi = v
-	}
-}
-
 func (a *axisStats) merge(b axisStats) {
 	if b.n == 0 {
 		return
@@ -125,11 +106,58 @@ func decide(st *[3]axisStats, conv float64, o NonWearOptions) bool {
 func statsOf(x, y, z []float64, ref [3]float64) [3]axisStats {
 	var st [3]axisStats
 	for k, a := range [][]float64{x, y, z} {
-		for _, v := range a {
-			st[k].add(v, ref[k])
-		}
+		st[k] = axisOf(a, ref[k])
 	}
 	return st
+}
+
+// axisOf gathers the statistics of one axis over a slice (this runs over
+// every sample of a week, so the first-sample case is kept out of the loop).
+func axisOf(a []float64, ref float64) axisStats {
+	var st axisStats
+	i := 0
+	for i < len(a) && a[i]-a[i] != 0 {
+		i++
+	}
+	if i == len(a) {
+		return st
+	}
+	lo, hi := a[i], a[i]
+	var n, s, ss float64
+	for _, v := range a[i:] {
+		if v-v != 0 { // NaN or infinite
+			continue
+		}
+		n++
+		d := v - ref
+		s += d
+		ss += d * d
+		if v < lo {
+			lo = v
+		} else if v > hi {
+			hi = v
+		}
+	}
+	return axisStats{n: n, s: s, ss: ss, lo: lo, hi: hi}
+}
+
+// invalidRuns3 returns, as gaps, the runs of samples where any axis is NaN
+// or infinite (the union of window.InvalidRuns over the axes, in one pass).
+func invalidRuns3(x, y, z []float64, rate float64) []window.Interval {
+	var out []window.Interval
+	for i := 0; i < len(x); {
+		if x[i]-x[i] == 0 && y[i]-y[i] == 0 && z[i]-z[i] == 0 {
+			i++
+			continue
+		}
+		j := i
+		for j < len(x) && !(x[j]-x[j] == 0 && y[j]-y[j] == 0 && z[j]-z[j] == 0) {
+			j++
+		}
+		out = append(out, window.Interval{Start: sampleTime(rate, i), End: sampleTime(rate, j)})
+		i = j
+	}
+	return out
 }
 
 // nonWearWindow applies the rule to samples in any unit with conv the
@@ -173,8 +201,7 @@ func NonWear(x, y, z []float64, rateHz float64, u Unit, opts NonWearOptions) ([]
 	if err != nil {
 		return nil, fmt.Errorf("motion: non-wear: %w", err)
 	}
-	gaps := window.InvalidRuns(window.InvalidRuns(window.InvalidRuns(nil, x, rateHz, 0), y, rateHz, 0), z, rateHz, 0)
-	seq, err := g.Samples(rateHz, 0, len(x), gaps)
+	seq, err := g.Samples(rateHz, 0, len(x), invalidRuns3(x, y, z, rateHz))
 	if err != nil {
 		return nil, fmt.Errorf("motion: non-wear: %w", err)
 	}
