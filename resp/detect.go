@@ -365,18 +365,34 @@ func (c *core) step(rib, abd float64) {
 		if m < c.m[c.iLo&c.mask] {
 			c.iLo = n
 		}
+		if c.quietFrom >= 0 && n-c.quietFrom >= c.spanN {
+			c.emitQuiet(c.quietFrom, c.quietFrom+c.spanN)
+			c.quietFrom += c.spanN
+		}
 		if m < c.m[c.iHi&c.mask]-2*h {
 			c.state, c.ext = stLow, n
 		} else if m > c.m[c.iLo&c.mask]+2*h {
+			if c.quietFrom >= 0 {
+				// Breathing resumes after an abandoned inspiration: the
+				// quiet stretch ends at this breath's onset.
+				c.ext = c.iLo
+				c.rise(ref)
+			}
 			c.state, c.ext = stHigh, n
 		}
 	case stHigh:
 		if m > c.m[c.ext&c.mask] {
 			c.ext = n
 		}
-		if c.onset >= 0 && n-c.onset >= c.cap-2 {
-			c.out.Discarded++ // inspiration longer than the buffer
-			c.onset = -1
+		if c.onset >= 0 && n-c.onset > c.maxTiN() {
+			// No peak confirmed within a plausible inspiratory time: what
+			// follows the onset is not a breath (small or inverted efforts
+			// of an apnea, for example). Abandon it, hand the time to the
+			// pause excursions and look for breathing afresh.
+			c.out.Discarded++
+			c.quietFrom, c.onset, c.peak = c.onset, -1, -1
+			c.state, c.iHi, c.iLo = stInit, n, n
+			break
 		}
 		if c.onset < 0 && n-c.ext > c.cap/2 {
 			c.ext = n
@@ -454,6 +470,13 @@ func (c *core) onsetAt(from int, tol float64) (int, float64) {
 		}
 	}
 	return lo, fl
+}
+
+// maxTiN is the longest plausible inspiration in samples: three times the
+// recent median Ti, at least 5 s (our choice; a sigh's inspiration is about
+// twice the usual), and never more than the buffer.
+func (c *core) maxTiN() int {
+	return min(c.cap-2, int(math.Max(5, 3*c.medTi)*c.fs))
 }
 
 // rise handles the switch from expiration to inspiration at sample c.n.

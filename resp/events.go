@@ -180,7 +180,8 @@ type span struct {
 // duration criteria, Berry et al. 2012). Apneas are classified from the
 // bands' effort: continued throughout -> obstructive, absent -> central,
 // absent then resuming -> mixed. Hypopneas are obstructive when most of their
-// breaths are paradoxical and central otherwise (after the AASM optional
+// time shows paradox (paradoxical breaths, or pause spans in which the bands
+// move but cancel in the sum) and central otherwise (after the AASM optional
 // rule, from memory; snoring and flow flattening are not available from
 // bands). Breaths flagged for motion or clipping break a run.
 //
@@ -374,9 +375,19 @@ func scoreRun(run []span, base, bandBase float64, o EventOptions) (Event, bool) 
 			effFirst += a
 			effSecond += d - a
 		}
-		if s.breath >= 0 {
+		effort := math.Max(s.rib, s.abd) >= o.EffortFrac*bandBase
+		switch {
+		case s.breath >= 0:
 			brT += d
 			if s.paradox {
+				parT += d
+			}
+		case effort:
+			// A pause span with effort: the bands cancel in the sum when
+			// they move against each other (paradox); in phase, the sum
+			// moves with them.
+			brT += d
+			if s.exc < 0.5*(s.rib+s.abd) {
 				parT += d
 			}
 		}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"github.com/tidalbeat/tidalbeat/internal/sim"
 	"github.com/tidalbeat/tidalbeat/resp"
 )
 
@@ -157,5 +158,38 @@ func TestEventOptionsRejected(t *testing.T) {
 		if _, err := resp.DetectEvents(resp.Result{}, o); err == nil {
 			t.Errorf("options %+v accepted", o)
 		}
+	}
+}
+
+func TestUncalibratedObstructiveApnea(t *testing.T) {
+	// With equal weights the efforts of an obstructive apnea do not cancel
+	// in the sum (the simulator's bands read 1.6 and 0.9 AU/L): the sum
+	// moves a little, against the bands. No breath may swallow the event
+	// (no inspiration over 5 s), and the event is found as a candidate
+	// (hypopnea: drop >= 30 % but < 90 %) with paradoxical effort, so
+	// obstructive (simulator truth: obstructive apnea 240-260 s).
+	rec, err := sim.BreathSimulate(sim.BreathConfig{RateHz: 50, Seed: 11, Segments: []sim.BreathSegment{
+		{DurationS: 240, RatePerMin: 15},
+		{Kind: sim.BreathObstructiveApnea, DurationS: 20},
+		{DurationS: 240, RatePerMin: 12},
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := resp.Detect(rec.Rib, rec.Abd, resp.Options{RateHz: 50})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, b := range r.Breaths {
+		if b.TiS > 5 {
+			t.Errorf("breath %+v has a %v s inspiration", b, b.TiS)
+		}
+	}
+	ev, err := resp.DetectEvents(r, resp.EventOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ev) != 1 || ev[0].Class != resp.ClassObstructive || ev[0].Start > 243 || ev[0].End < 255 || ev[0].End > 262 {
+		t.Errorf("events %+v, want one obstructive candidate over 240-260 s", ev)
 	}
 }
