@@ -68,3 +68,28 @@ func TestScoreErrors(t *testing.T) {
 		t.Errorf("no time_s column: exit %d", code)
 	}
 }
+
+// FuzzScoreReadTest: the detection-CSV reader never panics and returns only
+// finite times.
+func FuzzScoreReadTest(f *testing.F) {
+	f.Add([]byte("sample,time_s\n77,0.213889\n370,1.027778\n"))
+	f.Add([]byte("time_s\nNaN\n"))
+	f.Add([]byte("a,b\n\"x\n"))
+	f.Add([]byte(""))
+	dir := f.TempDir()
+	f.Fuzz(func(t *testing.T, b []byte) {
+		p := filepath.Join(dir, "f.csv")
+		if err := os.WriteFile(p, b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		ts, err := scoreReadTest(p, 360)
+		if err != nil {
+			return
+		}
+		for _, v := range ts {
+			if v != v || v > 1e308 || v < -1e308 {
+				t.Fatalf("non-finite time %v accepted", v)
+			}
+		}
+	})
+}
