@@ -141,19 +141,22 @@ func Summarize(w window.Window, s []Sample, rateHz float64, opts Options) Epoch 
 	var sumVM, sumENMO, sumPIM, su, sl, sf float64
 	n, zc, tat := 0, 0, 0
 	var stepIdx []int
+	const rare = FlagStep | FlagSaturated | FlagPostureChange | FlagInvalid
 	for j := range s {
 		v := &s[j]
-		if v.Flags&FlagStep != 0 {
-			stepIdx = append(stepIdx, j)
-		}
-		if v.Flags&FlagSaturated != 0 {
-			e.Saturated++
-		}
-		if v.Flags&FlagPostureChange != 0 {
-			e.PostureChanges++
-		}
-		if v.Flags&FlagInvalid != 0 {
-			continue
+		if f := v.Flags; f&rare != 0 {
+			if f&FlagStep != 0 {
+				stepIdx = append(stepIdx, j)
+			}
+			if f&FlagSaturated != 0 {
+				e.Saturated++
+			}
+			if f&FlagPostureChange != 0 {
+				e.PostureChanges++
+			}
+			if f&FlagInvalid != 0 {
+				continue
+			}
 		}
 		n++
 		vm := float64(v.VM)
@@ -162,12 +165,8 @@ func Summarize(w window.Window, s []Sample, rateHz float64, opts Options) Epoch 
 			sumENMO += vm - 1
 		}
 		sumPIM += float64(v.Count)
-		if v.Flags&FlagZeroCross != 0 {
-			zc++
-		}
-		if v.Flags&FlagAboveThreshold != 0 {
-			tat++
-		}
+		zc += int(v.Flags&FlagZeroCross) / int(FlagZeroCross)
+		tat += int(v.Flags&FlagAboveThreshold) / int(FlagAboveThreshold)
 		su += float64(v.Up)
 		sl += float64(v.Left)
 		sf += float64(v.Forward)
