@@ -73,14 +73,18 @@ func newPlan(rec *recording.Recording, cfg Config, withData bool) (*plan, error)
 		mk   func(*recording.Recording, Config, bool) *family
 	}{
 		{FamilyHRV, newHRVFamily},
+		{FamilyECGQuality, newECGQualityFamily},
 		{FamilyBreathing, newBreathingFamily},
 		{FamilyActivity, newActivityFamily},
 	}
 	for _, b := range builders {
-		if !cfg.wants(b.name) {
+		if b.name != FamilyECGQuality && !cfg.wants(b.name) {
 			continue
 		}
 		f := b.mk(rec, cfg, withData)
+		if f == nil {
+			continue
+		}
 		for _, in := range f.inputs {
 			if !(in.rate > 0) || math.IsInf(in.rate, 0) || in.rate > 1e7 {
 				return nil, fmt.Errorf("features: %s: channel %q rate %v Hz: %w", f.name, in.name, in.rate, ErrInput)

@@ -10,6 +10,7 @@ import (
 
 	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/internal/sim"
+	"github.com/tidalbeat/tidalbeat/window"
 )
 
 func walkRunSchedule() []sim.AccelSegment {
@@ -340,6 +341,66 @@ func TestBreathingStreamEqualsBatch(t *testing.T) {
 	for trial := range 4 {
 		rng := rand.New(rand.NewPCG(uint64(trial), 5))
 		got := streamRows(t, rec, cfg, rng, []float64{0.2, 5, 60, 1000}[trial])
+		rowsEqual(t, want.Rows, got)
+	}
+}
+
+// TestECGQualityLeadOff checks the ECG quality columns against the
+// simulator's lead-off stretch (internal/sim.ECGConfig.LeadOff, 400-430 s,
+// samples NaN): the invalid fraction of each 30-s quality window is its
+// overlap with the stretch, and on clean windows the two detectors agree
+// (bSQI at least 0.9, common practice for good-quality ECG).
+func TestECGQualityLeadOff(t *testing.T) {
+	rec, _ := hrvRecording(t, 600)
+	tab, err := Extract(rec, Config{Families: []string{FamilyHRV}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	lead, bsqi, cov := tab.Float("ecg_lead_off_frac"), tab.Float("ecg_bsqi_frac"), tab.Float("ecg_quality_coverage_frac")
+	if lead == nil {
+		t.Fatal("no ecg_lead_off_frac column")
+	}
+	for i, r := range tab.Rows {
+		lo, hi := math.Max(r.Offset-30, 0), math.Min(r.Offset, 600)
+		if hi <= lo {
+			continue
+		}
+		want := math.Max(0, math.Min(hi, 430)-math.Max(lo, 400)) / (hi - lo)
+		if math.Abs(lead[i]-want) > 1.0/250/(hi-lo)+1e-9 {
+			t.Errorf("row %d (%.2f s): lead-off fraction %v, want %v", i, r.Offset, lead[i], want)
+		}
+		if want == 0 && cov[i] == 1 && !(bsqi[i] >= 0.9) {
+			t.Errorf("row %d: bSQI %v on clean ECG", i, bsqi[i])
+		}
+	}
+}
+
+// TestAllFamiliesStreamEqualsBatch feeds a recording with every modality,
+// lost samples and a declared ECG gap to Stream in random chunkings and
+// requires rows identical to Extract's (issue 8: "for the same data its
+// rows equal the batch rows exactly").
+func TestAllFamiliesStreamEqualsBatch(t *testing.T) {
+	rec, _ := hrvRecording(t, 500)
+	br, _ := breathRecording(t)
+	rec.Channels = append(rec.Channels, br.Channels...)
+	ecgCh := 3
+	rec.Channels[ecgCh].Gaps = []window.Interval{{Start: 200, End: 203.5}}
+	for i := 7000; i < 7100; i++ {
+		rec.Channels[4].Samples[i] = math.Inf(1)
+	}
+	cfg := Config{Labels: []Label{{Start: testStart.Add(time.Minute), End: testStart.Add(2 * time.Minute), Name: "warm-up"}}}
+	want, err := Extract(rec, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, fam := range []string{"hrv_coverage_frac", "ecg_quality_coverage_frac", "breathing_coverage_frac", "activity_coverage_frac"} {
+		if countFinite(want.Float(fam)) == 0 {
+			t.Fatalf("%s never computed", fam)
+		}
+	}
+	for trial := range 3 {
+		rng := rand.New(rand.NewPCG(uint64(trial), 1234))
+		got := streamRows(t, rec, cfg, rng, []float64{0.3, 11, 400}[trial])
 		rowsEqual(t, want.Rows, got)
 	}
 }

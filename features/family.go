@@ -65,7 +65,11 @@ type family struct {
 	// or a modality package's own batch/stream pair). batchFn computes every
 	// window of whole channels; newDriver returns the streaming counterpart,
 	// which must give the same results for any chunking.
-	batchFn   func(g window.Grid) ([]famResult, error)
+	// alwaysCore makes runWindow call core for invalid windows too (their
+	// values are then still computed and the window's reason is kept):
+	// quality measures matter most where coverage is poor.
+	alwaysCore bool
+	batchFn    func(g window.Grid) ([]famResult, error)
 	newDriver func(g window.Grid) (driver, error)
 }
 
@@ -96,7 +100,7 @@ type famResult struct {
 // as its worst channel), skips the core for invalid windows and records why.
 func (f *family) runWindow(segs []seg) famResult {
 	return f.runWindowWith(segs, func(out cells, valid bool) string {
-		if !valid {
+		if !valid && !f.alwaysCore {
 			return ""
 		}
 		return f.core(segs, out)

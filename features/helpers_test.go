@@ -56,6 +56,7 @@ func streamRows(t testing.TB, rec *recording.Recording, cfg Config, rng *rand.Ra
 		t.Fatal(err)
 	}
 	pos := make([]int, len(rec.Channels))
+	gi := make([]int, len(rec.Channels))
 	var rows []Row
 	for {
 		// Pick the channel that is furthest behind in time, push a random chunk.
@@ -73,6 +74,13 @@ func streamRows(t testing.TB, rec *recording.Recording, cfg Config, rng *rand.Ra
 		c := rec.Channels[ch]
 		n := 1 + rng.IntN(int(maxChunkS*c.RateHz)+1)
 		end := min(pos[ch]+n, len(c.Samples))
+		// Declared gaps go in before the samples they cover.
+		for gi[ch] < len(c.Gaps) && c.Gaps[gi[ch]].Start < float64(end)/c.RateHz {
+			if err := s.Gap(ch, c.Gaps[gi[ch]]); err != nil {
+				t.Fatal(err)
+			}
+			gi[ch]++
+		}
 		if err := s.Push(ch, c.Samples[pos[ch]:end]); err != nil {
 			t.Fatal(err)
 		}
