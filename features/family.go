@@ -70,7 +70,7 @@ type family struct {
 	// quality measures matter most where coverage is poor.
 	alwaysCore bool
 	batchFn    func(g window.Grid) ([]famResult, error)
-	newDriver func(g window.Grid) (driver, error)
+	newDriver  func(g window.Grid) (driver, error)
 }
 
 // driver is the streaming side of a family: it is fed each input's samples
