@@ -481,3 +481,34 @@ func TestNonWearBlocksMatchPureWindow(t *testing.T) {
 		}
 	}
 }
+
+// Bad input to the batch helpers gives errors that wrap the package's
+// sentinels.
+func TestHelpersBadInput(t *testing.T) {
+	x, y, z := gen(10, 100, func(float64) (float64, float64, float64) { return 0, 1, 0 })
+	if _, err := motion.NonWear(x, y, z[:5], 10, motion.UnitG, motion.NonWearOptions{}); !errors.Is(err, motion.ErrInput) {
+		t.Errorf("non-wear ragged: %v", err)
+	}
+	if _, err := motion.NonWear(x, y, z, 1, motion.UnitG, motion.NonWearOptions{}); !errors.Is(err, motion.ErrInput) {
+		t.Errorf("non-wear 1 Hz: %v", err)
+	}
+	if _, err := motion.NonWear(x, y, z, 10, motion.UnitG, motion.NonWearOptions{MinAxes: 4}); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("non-wear 4 axes: %v", err)
+	}
+	if _, err := motion.Calibrate(x, y, z[:5], 10, motion.UnitG, motion.CalibrationOptions{}); !errors.Is(err, motion.ErrInput) {
+		t.Errorf("calibrate ragged: %v", err)
+	}
+	if _, err := motion.Calibrate(x, y, z, 10, motion.UnitG, motion.CalibrationOptions{MinPoints: 2}); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("calibrate 2 points: %v", err)
+	}
+	bad := &motion.Calibration{Scale: [3]float64{1, 0, 1}}
+	if _, err := motion.Derive(x, y, z, 10, motion.Options{Calibration: bad}); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("zero calibration scale: %v", err)
+	}
+	if _, err := motion.Derive(x, y, z, 10, motion.Options{Intensity: motion.IntensityOptions{ModerateMg: 500}}); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("moderate cut-point above vigorous: %v", err)
+	}
+	if _, err := motion.Derive(x, y, z, 10, motion.Options{Unit: motion.Unit(7)}); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("unknown unit: %v", err)
+	}
+}
