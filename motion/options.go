@@ -239,7 +239,9 @@ type StepOptions struct {
 	// Default 2 s (common practice: slower than any walking cadence).
 	MaxIntervalS float64
 	// MinRun is the number of regular steps a run needs before any of its
-	// steps count. Default 4 (methods reference 6.5: 3-4, common practice).
+	// steps count; regular means each interval lies within MinIntervalS
+	// and MaxIntervalS of the previous step. Default 4 (methods reference
+	// 6.5: 3-4, common practice).
 	MinRun int
 }
 
