@@ -198,3 +198,25 @@ func BenchmarkStreamRecord100(b *testing.B) {
 	}
 	b.ReportMetric(float64(2*650000*b.N)/b.Elapsed().Seconds(), "samples/s")
 }
+
+// BenchmarkOpenEDF reads one hour of a two-channel EDF+ file (250 Hz ECG,
+// 25 Hz band) written by WriteEDF.
+func BenchmarkOpenEDF(b *testing.B) {
+	rec := &Recording{Name: "hour", Channels: []Channel{{Name: "ECG", Unit: "mV", RateHz: 250, Samples: make([]float64, 250*3600)}, {Name: "RC", Unit: "V", RateHz: 25, Samples: make([]float64, 25*3600)}}}
+	for i := range rec.Channels[0].Samples {
+		rec.Channels[0].Samples[i] = math.Sin(float64(i) / 40)
+	}
+	var buf bytes.Buffer
+	if err := WriteEDF(&buf, rec, EDFWriteOptions{}); err != nil {
+		b.Fatal(err)
+	}
+	p := filepath.Join(b.TempDir(), "hour.edf")
+	os.WriteFile(p, buf.Bytes(), 0o644)
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := Open(p); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(275*3600*b.N)/b.Elapsed().Seconds(), "samples/s")
+}
