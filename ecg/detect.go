@@ -166,6 +166,10 @@ func Detect(x []float64, rateHz float64, opt Options) (Result, error) {
 // First-pass beats typically come out FlatS + about 0.3 s after the R-peak
 // (measured on MIT-BIH record 100: median 0.82 s, largest 2.3 s, bound 4.5 s
 // with the default options at 360 Hz).
+//
+// Memory is fixed: ring buffers of about one second, at most 4096 + FlatS
+// pending samples, and a candidate pool bounded by the search-back limit. The
+// only allocations per Push are the returned beats and closed gaps.
 type Detector struct {
 	c   core
 	out []Beat
@@ -227,8 +231,8 @@ func (d *Detector) TakeGaps() []window.Interval {
 	return g
 }
 
-// Latency returns the bound, in seconds, between a beat's R-peak and the end
-// of the chunk that returns it.
+// Latency returns the bound, in seconds: a beat at R-peak time t is returned
+// no later than by the Push whose chunk holds the sample at t + Latency().
 func (d *Detector) Latency() float64 {
 	return float64(d.c.latencyN) / d.c.fs
 }
