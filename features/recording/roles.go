@@ -63,29 +63,57 @@ func isLeadName(w string) bool {
 	return false
 }
 
-// accRole recognises accelerometer axis labels.
+// accRole recognises accelerometer axis labels: an accelerometer word
+// (acc, accel, acceleration, accelerometer) next to an axis letter, as in
+// acc_x, "chest acc x", x_acc, "Accel Z", or fused (accx, xacc), and the bare
+// ax, ay, az.
 func accRole(words []string, compact string) (Role, bool) {
-	axis := func(c byte) (Role, bool) {
-		switch c {
-		case 'x':
+	axis := func(w string) (Role, bool) {
+		switch w {
+		case "x":
 			return RoleAccX, true
-		case 'y':
+		case "y":
 			return RoleAccY, true
-		case 'z':
+		case "z":
 			return RoleAccZ, true
 		}
 		return RoleUnknown, false
 	}
-	for _, pre := range []string{"accelerometer", "acceleration", "accel", "acc"} {
-		if strings.HasPrefix(compact, pre) && len(compact) == len(pre)+1 {
-			return axis(compact[len(pre)])
+	isAcc := func(w string) bool {
+		switch w {
+		case "acc", "accel", "acceleration", "accelerometer", "accelerometry":
+			return true
 		}
-		if strings.HasSuffix(compact, pre) && len(compact) == len(pre)+1 {
-			return axis(compact[0])
+		return false
+	}
+	for i, w := range words {
+		if isAcc(w) {
+			if i+1 < len(words) {
+				if r, ok := axis(words[i+1]); ok {
+					return r, true
+				}
+			}
+			if i > 0 {
+				if r, ok := axis(words[i-1]); ok {
+					return r, true
+				}
+			}
+		}
+		for _, pre := range []string{"accelerometer", "acceleration", "accel", "acc"} {
+			if len(w) == len(pre)+1 && strings.HasPrefix(w, pre) {
+				if r, ok := axis(w[len(pre):]); ok {
+					return r, true
+				}
+			}
+			if len(w) == len(pre)+1 && strings.HasSuffix(w, pre) {
+				if r, ok := axis(w[:1]); ok {
+					return r, true
+				}
+			}
 		}
 	}
 	if len(words) == 1 && len(compact) == 2 && compact[0] == 'a' {
-		return axis(compact[1])
+		return axis(compact[1:])
 	}
 	return RoleUnknown, false
 }
