@@ -155,26 +155,16 @@ func Calibrate(x, y, z []float64, rateHz float64, u Unit, opts CalibrationOption
 	return c, nil
 }
 
+// stillMean returns the mean of each axis (g) when every axis's SD is below
+// sdLim (g); the statistics are those of non-wear (axisOf).
 func stillMean(x, y, z []float64, conv, sdLim float64) ([3]float64, bool) {
 	var m [3]float64
-	n := float64(len(x))
-	if n < 2 {
-		return m, false
-	}
 	for k, a := range [][]float64{x, y, z} {
-		var s, ss float64
-		for _, v := range a {
-			s += v * conv
-		}
-		mu := s / n
-		for _, v := range a {
-			d := v*conv - mu
-			ss += d * d
-		}
-		if math.Sqrt(ss/(n-1)) >= sdLim {
+		st := axisOf(a, firstFinite(a))
+		if st.n < 2 || conv*st.sd() >= sdLim {
 			return m, false
 		}
-		m[k] = mu
+		m[k] = conv * (firstFinite(a) + st.s/st.n)
 	}
 	return m, true
 }

@@ -73,14 +73,18 @@ func (a *axisStats) merge(b axisStats) {
 	a.hi = max(a.hi, b.hi)
 }
 
+// sd is the sample standard deviation (n-1) in raw units.
+func (a *axisStats) sd() float64 {
+	return math.Sqrt(math.Max(0, (a.ss-a.s*a.s/a.n)/(a.n-1)))
+}
+
 // still reports whether the axis passes the SD and range limits (conv: raw
 // unit to g).
 func (a *axisStats) still(conv float64, o NonWearOptions) (ok, enough bool) {
 	if a.n < 2 {
 		return false, false
 	}
-	vr := math.Max(0, (a.ss-a.s*a.s/a.n)/(a.n-1))
-	sdOK := 1000*conv*math.Sqrt(vr) < o.SDmg
+	sdOK := 1000*conv*a.sd() < o.SDmg
 	rgOK := 1000*conv*(a.hi-a.lo) < o.RangeMg
 	if o.Either {
 		return sdOK || rgOK, true
