@@ -17,8 +17,9 @@ import (
 //   - accelerometer: acc_x, accx, "acc x", x_acc, accel_x, ax (and y, z).
 //   - SpO2: names containing "spo2", "sao2" or "oxygen saturation".
 //
-// Anything else is RoleUnknown. The unit breaks ties only for ECG leads named
-// by a bare lead letter, which must be in a voltage unit.
+// Anything else is RoleUnknown. The unit decides only for bare names: a lead
+// name (II, V5) must be in a voltage unit to be ECG, and a bare x, y or z in
+// an acceleration unit (g, mg, m/s2) is an accelerometer axis.
 func GuessRole(name, unit string) Role {
 	n := strings.ToLower(strings.TrimSpace(name))
 	words := strings.FieldsFunc(n, func(r rune) bool { return !unicode.IsLetter(r) && !unicode.IsDigit(r) })
@@ -46,6 +47,11 @@ func GuessRole(name, unit string) Role {
 	case strings.Contains(n, "chest") || strings.Contains(n, "thor") || strings.Contains(n, "rib") || has("rc"):
 		return RoleRibCage
 	}
+	if len(words) == 1 && len(words[0]) == 1 && isAccelUnit(unit) {
+		if r, ok := accRole([]string{"acc", words[0]}, ""); ok {
+			return r // "x" in m/s2
+		}
+	}
 	if len(words) == 1 && isLeadName(words[0]) {
 		u := strings.ToLower(strings.TrimSpace(unit))
 		if u == "" || strings.HasSuffix(u, "v") {
@@ -53,6 +59,14 @@ func GuessRole(name, unit string) Role {
 		}
 	}
 	return RoleUnknown
+}
+
+func isAccelUnit(u string) bool {
+	switch strings.ToLower(strings.ReplaceAll(strings.TrimSpace(u), " ", "")) {
+	case "g", "mg", "m/s2", "m/s^2", "m/s²", "ms-2", "m*s-2":
+		return true
+	}
+	return false
 }
 
 func isLeadName(w string) bool {

@@ -16,6 +16,7 @@ func TestGuessRole(t *testing.T) {
 		{"acc_x", "m/s2", RoleAccX}, {"accY", "g", RoleAccY}, {"acc z", "g", RoleAccZ}, {"x_acc", "m/s2", RoleAccX},
 		{"accel_z", "g", RoleAccZ}, {"ay", "g", RoleAccY}, {"SpO2", "%", RoleSpO2}, {"SaO2", "%", RoleSpO2},
 		{"chest_acc_x", "g", RoleAccX}, {"Accel Z", "g", RoleAccZ}, {"y acc", "g", RoleAccY}, {"accelerometer_y", "g", RoleAccY},
+		{"x", "m/s2", RoleAccX}, {"z", "g", RoleAccZ}, {"x", "cm", RoleUnknown},
 		{"EEG Fpz-Cz", "uV", RoleUnknown}, {"temperature", "degC", RoleUnknown},
 	}
 	for _, c := range cases {
