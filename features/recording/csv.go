@@ -16,8 +16,9 @@ import (
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
-// CSV layout read by this package: a header row naming the columns, then one
-// row per sample time. One column holds the time: seconds from the recording
+// CSV layout read by this package: a header row naming the columns (or the
+// names in CSVOptions.Columns for files without one), then one row per
+// sample time. One column holds the time: seconds from the recording
 // start (a unit in the header such as "time[ms]" scales it: ns, us, ms, s,
 // min), seconds since the Unix epoch (CSVOptions.EpochTime), or ISO-8601 /
 // RFC 3339 timestamps (UTC when they carry no offset). Every other column is
@@ -57,6 +58,9 @@ type CSVOptions struct {
 	GapFactor float64
 	// Comma is the field separator; ',' when zero.
 	Comma rune
+	// Columns names the columns of a file without a header row (units in
+	// brackets allowed, e.g. "t[ns]"); when set, the first row is data.
+	Columns []string
 }
 
 // ResampleReport says how irregular timestamps were put on a uniform grid and
@@ -131,14 +135,20 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 	if opt.Comma != 0 {
 		cr.Comma = opt.Comma
 	}
-	head, err := cr.Read()
-	if err != nil {
-		if errors.Is(err, io.EOF) {
-			return nil, fmt.Errorf("csv %s: no header row: %w", name, ErrHeader)
+	var head []string
+	if opt.Columns != nil {
+		head = append(head, opt.Columns...)
+		cr.FieldsPerRecord = len(head)
+	} else {
+		h, err := cr.Read()
+		if err != nil {
+			if errors.Is(err, io.EOF) {
+				return nil, fmt.Errorf("csv %s: no header row: %w", name, ErrHeader)
+			}
+			return nil, fmt.Errorf("csv %s: header row: %v: %w", name, err, ErrHeader)
 		}
-		return nil, fmt.Errorf("csv %s: header row: %v: %w", name, err, ErrHeader)
+		head = append(head, h...)
 	}
-	head = append([]string(nil), head...)
 	if len(head) < 2 {
 		return nil, fmt.Errorf("csv %s: header has %d column(s), need a time column and a channel: %w", name, len(head), ErrHeader)
 	}
@@ -197,6 +207,9 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 	valid := make([]int, len(head)) // valid values merged into the last row, per column
 	dups := 0
 	row := 1
+	if opt.Columns != nil {
+		row = 0
+	}
 	for {
 		recd, err := cr.Read()
 		if errors.Is(err, io.EOF) {

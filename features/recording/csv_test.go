@@ -193,3 +193,30 @@ func TestCSVRealWatchExport(t *testing.T) {
 }
 
 func strconvF(v float64) string { return strconv.FormatFloat(v, 'f', 6, 64) }
+
+func TestCSVHeaderlessStepCounter(t *testing.T) {
+	// Step-counter validation walk (phone accelerometer at about 100 Hz):
+	// no header; nanoseconds since boot, acc x, y, z in m/s2, then three
+	// step-count columns (dataset README).
+	p := refdata.Shared(t, "open-data/step-counter/validation/user1_armband_1506423438471.csv")
+	rec, err := OpenWith(p, Options{CSV: CSVOptions{Columns: []string{"t[ns]", "x[m/s2]", "y[m/s2]", "z[m/s2]", "steps_authors", "steps_truth", "steps_phone"}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rec.Resample
+	// 19297 rows, first two 10.027 ms apart (read from the file): about 100 Hz.
+	if r == nil || r.SourceSamples != 19297 || math.Abs(r.RateHz-100) > 2 {
+		t.Fatalf("report %+v", r)
+	}
+	for i, role := range []Role{RoleAccX, RoleAccY, RoleAccZ} {
+		if rec.Channels[i].Role != role || rec.Channels[i].Unit != "m/s2" {
+			t.Errorf("channel %d: %q role %v", i, rec.Channels[i].Name, rec.Channels[i].Role)
+		}
+	}
+	if rec.StartKnown || len(rec.Channels) != 6 {
+		t.Errorf("start known %v, %d channels", rec.StartKnown, len(rec.Channels))
+	}
+	if x := rec.Channels[0].Samples[0]; x != 2.292448 { // first row, x column
+		t.Errorf("first x %v", x)
+	}
+}
