@@ -177,7 +177,9 @@ type span struct {
 // excursion; a run of at least MinDurationS in which every piece is at least
 // HypopneaDrop below the pre-event baseline is an event, an apnea when
 // ApneaTimeFrac of it is at least ApneaDrop below (the AASM amplitude and
-// duration criteria, Berry et al. 2012). Apneas are classified from the
+// duration criteria, Berry et al. 2012), or when its mean drop reaches
+// ApneaDrop with most of it at apnea level (our allowance for noisy span
+// estimates). Apneas are classified from the
 // bands' effort: continued throughout -> obstructive, absent -> central,
 // absent then resuming -> mixed. Hypopneas are obstructive when most of their
 // time shows paradox (paradoxical breaths, or pause spans in which the bands
@@ -332,8 +334,17 @@ func scoreRun(run []span, base, bandBase float64, o EventOptions) (Event, bool) 
 			apneaT += s.end - s.start
 		}
 	}
+	var excT float64
+	for _, s := range run {
+		excT += s.exc * (s.end - s.start)
+	}
+	meanDrop := 1 - excT/dur/base
 	kind := EventHypopnea
-	if apneaT >= o.ApneaTimeFrac*dur {
+	// The share-of-duration criterion is judged on span estimates that are
+	// noisy near the threshold (a span holding the tail of a breath reads
+	// high); a run whose mean drop reaches ApneaDrop and most of whose time
+	// is at apnea level is an apnea too (our choice).
+	if apneaT >= o.ApneaTimeFrac*dur || (meanDrop >= o.ApneaDrop && apneaT >= 0.5*dur) {
 		kind = EventApnea
 	} else {
 		// The longest stretch at apnea level inside a hypopnea run is an
@@ -363,7 +374,8 @@ func scoreRun(run []span, base, bandBase float64, o EventOptions) (Event, bool) 
 		}
 	}
 	ev := Event{Kind: kind, Start: start, End: end, DurationS: dur, BaselineAU: base, ApneaFrac: apneaT / dur, DesatPct: math.NaN()}
-	var excT, effT, effFirst, effSecond, parT, brT float64
+	excT = 0
+	var effT, effFirst, effSecond, parT, brT float64
 	half := start + dur/2
 	for _, s := range run {
 		d := s.end - s.start
