@@ -25,8 +25,8 @@ type Reader struct {
 	FrameHz float64
 	// SamplesPerFrame holds each channel's samples per frame.
 	SamplesPerFrame []int
-	// Frames is the number of frames in the recording, or -1 when unknown
-	// until the end is reached.
+	// Frames is the number of frames in the recording, known at open (from
+	// the header, checked against the file size, or from the file size).
 	Frames int64
 
 	src   chunkSource

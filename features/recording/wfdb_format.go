@@ -32,20 +32,19 @@ type wfdbFormat struct {
 	need       []int
 	invalid    int64
 	hasInvalid bool
-	bits       int // bits per sample, for the default ADC resolution
 }
 
 var wfdbFormats = map[int]wfdbFormat{
-	8:   {1, 1, []int{1}, 0, false, 8},
-	16:  {1, 2, []int{2}, -1 << 15, true, 16},
-	24:  {1, 3, []int{3}, -1 << 23, true, 24},
-	32:  {1, 4, []int{4}, -1 << 31, true, 32},
-	61:  {1, 2, []int{2}, -1 << 15, true, 16},
-	80:  {1, 1, []int{1}, -1 << 7, true, 8},
-	160: {1, 2, []int{2}, -1 << 15, true, 16},
-	212: {2, 3, []int{2, 3}, -1 << 11, true, 12},
-	310: {3, 4, []int{2, 4, 4}, -1 << 9, true, 10},
-	311: {3, 4, []int{2, 3, 4}, -1 << 9, true, 10},
+	8:   {1, 1, []int{1}, 0, false},
+	16:  {1, 2, []int{2}, -1 << 15, true},
+	24:  {1, 3, []int{3}, -1 << 23, true},
+	32:  {1, 4, []int{4}, -1 << 31, true},
+	61:  {1, 2, []int{2}, -1 << 15, true},
+	80:  {1, 1, []int{1}, -1 << 7, true},
+	160: {1, 2, []int{2}, -1 << 15, true},
+	212: {2, 3, []int{2, 3}, -1 << 11, true},
+	310: {3, 4, []int{2, 4, 4}, -1 << 9, true},
+	311: {3, 4, []int{2, 3, 4}, -1 << 9, true},
 }
 
 // WFDBFormats lists the signal formats this package reads, in increasing order.

@@ -106,6 +106,9 @@ func TestWFDBMultiFrequencyAndSkew(t *testing.T) {
 	if fast.RateHz != 20 || len(fast.Samples) != 40 || slow.RateHz != 10 || len(slow.Samples) != 20 {
 		t.Fatalf("fast %v Hz x %d, slow %v Hz x %d", fast.RateHz, len(fast.Samples), slow.RateHz, len(slow.Samples))
 	}
+	// WFDB header format (from memory): "16x2" stores 2 samples of the
+	// signal per frame, at twice the frame rate; ":1" delays a signal by one
+	// frame in the file. Stored values are those of the fixture generator.
 	for i, s := range fast.Samples { // gain 10: stored 100*f, 100*f+50 per frame f
 		if want := float64(50*i) / 10; s != want {
 			t.Errorf("fast[%d] = %v, want %v", i, s, want)
