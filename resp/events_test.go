@@ -193,3 +193,20 @@ func TestUncalibratedObstructiveApnea(t *testing.T) {
 		t.Errorf("events %+v, want one obstructive candidate over 240-260 s", ev)
 	}
 }
+
+func TestApneaMeanDropAllowance(t *testing.T) {
+	// Our allowance (documented in DetectEvents): 4 s at an 82 % drop then
+	// 8 s at 97 % has a mean drop of 92 % with two thirds of its time at
+	// apnea level -> apnea, although no 10 s stretch is at apnea level; with
+	// 75 % then 95 % the mean drop is 88 % -> hypopnea (derived from the
+	// piece amplitudes).
+	for _, c := range []struct {
+		a, b float64
+		want resp.EventKind
+	}{{0.18, 0.03, resp.EventApnea}, {0.25, 0.05, resp.EventHypopnea}} {
+		ev := events(t, []piece{{120, 1, 0}, {4, c.a, 0}, {8, c.b, 0}, {60, 1, 0}}, resp.EventOptions{})
+		if len(ev) != 1 || ev[0].Kind != c.want {
+			t.Errorf("pieces %v, %v: events %+v, want one %v", c.a, c.b, ev, c.want)
+		}
+	}
+}
