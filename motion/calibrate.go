@@ -65,7 +65,11 @@ func (c CalibrationOptions) withDefaults() CalibrationOptions {
 // rateHz. Still windows are found with the window engine (non-overlapping
 // windows of WindowS). It returns ErrCalibration when the still periods are
 // too few or do not cover both directions of every axis, because then the
-// fit is not determined.
+// fit is not determined. A chest-worn sensor rarely sees its up axis point
+// down, so a day of chest data alone often cannot be calibrated; calibrate
+// from a recording that includes lying in several positions, or from a
+// bench session with the device turned through all six faces, and pass the
+// result in Options.Calibration.
 func Calibrate(x, y, z []float64, rateHz float64, u Unit, opts CalibrationOptions) (*Calibration, error) {
 	o := opts.withDefaults()
 	if len(x) != len(y) || len(x) != len(z) {
