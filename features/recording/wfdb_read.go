@@ -80,6 +80,9 @@ func loadAnnotators(dir, name string, rate float64, list []string) ([]Annotation
 	}
 	var all []Annotation
 	for _, a := range list {
+		if a == "" || !filepath.IsLocal(name+"."+a) || strings.ContainsAny(a, `/\`) {
+			return nil, fmt.Errorf("wfdb %s: annotator %q is not a plain file extension: %w", filepath.Join(dir, name), a, ErrNotFound)
+		}
 		p := filepath.Join(dir, name+"."+a)
 		if optional {
 			if _, err := os.Stat(p); err != nil {
