@@ -261,6 +261,8 @@ type core struct {
 	ch  chain
 
 	cs, bs []sec // conditioning and band-pass sections with their state
+	// blkC and blkF hold one block of conditioned and band-passed samples.
+	blkC, blkF []float64
 
 	// Validity stage: samples wait until flatN more have arrived, so flat
 	// runs are known before their samples reach the detector.
@@ -358,6 +360,7 @@ func (c *core) init(fs float64, o Options) error {
 	}
 	c.fs, c.opt, c.ch = fs, o, ch
 	c.cs, c.bs = secsOf(ch.cond), secsOf(ch.band)
+	c.blkC, c.blkF = make([]float64, blockN), make([]float64, blockN)
 	c.flatN = max(2, int(math.Round(o.FlatS*fs)))
 	c.pend = make([]float64, 0, c.flatN+4096)
 	c.pendBad = make([]bool, 0, c.flatN+4096)
@@ -392,7 +395,7 @@ func (c *core) init(fs float64, o Options) error {
 // Block boundaries do not change any arithmetic: the detector sees the same
 // samples in the same order for any chunking.
 func (c *core) pushChunk(chunk []float64) {
-	const pieceN = 4096
+	const pieceN = blockN
 	for len(chunk) > 0 {
 		k := min(len(chunk), pieceN)
 		c.validate(chunk[:k])
@@ -413,24 +416,28 @@ func (c *core) pushChunk(chunk []float64) {
 // then).
 func (c *core) validate(xs []float64) {
 	p0 := len(c.pend)
-	c.pend = append(c.pend, xs...)
-	c.pendBad = append(c.pendBad, make([]bool, len(xs))...)
+	c.pend = append(c.pend, xs...) // capacity reserved: no allocation
+	if cap(c.pendBad) >= p0+len(xs) {
+		c.pendBad = c.pendBad[:p0+len(xs)]
+	} else {
+		c.pendBad = append(c.pendBad, make([]bool, len(xs))...)
+	}
 	bads := c.pendBad[p0:]
 	prev, prevOK, runLen := c.prev, c.prevOK, c.runLen
-	lo, hi := c.opt.ClipLowmV, c.opt.ClipHighmV
+	lo, hi, clip, flatN := c.opt.ClipLowmV, c.opt.ClipHighmV, c.clipSet, c.flatN
 	for k, x := range xs {
 		// x-x is NaN exactly when x is NaN or infinite.
-		bad := x-x != 0 || (c.clipSet && (x >= hi || x <= lo))
+		bad := x-x != 0 || (clip && (x >= hi || x <= lo))
 		if !bad && prevOK && x == prev {
 			runLen++
 		} else {
 			runLen = 1
 		}
 		prev, prevOK = x, !bad
-		if runLen >= c.flatN {
-			if runLen == c.flatN {
+		if runLen >= flatN {
+			if runLen == flatN {
 				i := c.in + k
-				for j := i - c.flatN + 1; j < i; j++ {
+				for j := i - flatN + 1; j < i; j++ {
 					c.pendBad[j-c.pendStart] = true
 				}
 			}
@@ -512,11 +519,11 @@ func (c *core) process(x []float64, bad []bool) {
 // recursion as dsp.Filter, kept beside its coefficients for speed.
 type sec struct{ b0, b1, b2, a1, a2, z0, z1 float64 }
 
-// maxSecs bounds the sections of either chain: baseline high-pass plus up to
-// maxNotches notches, or the 2-section band-pass.
+// maxNotches bounds Options.NotchHz; blockN is the block length of the
+// pipeline (samples).
 const (
 	maxNotches = 6
-	maxSecs    = 1 + maxNotches
+	blockN     = 4096
 )
 
 func secsOf(c dsp.Cascade) []sec {
@@ -539,12 +546,88 @@ func resetSecs(s []sec, x float64) {
 	}
 }
 
-// run is the per-sample Pan-Tompkins pipeline over valid samples of the
-// current segment.
+// filterBlock runs x through the sections in place, up to three sections
+// per pass with their states in registers (independent recursions the
+// processor overlaps). Each section sees the same input sequence as in a
+// sample-by-sample loop, so the output is bitwise the same for any
+// blocking or grouping.
+func filterBlock(secs []sec, x []float64) {
+	for len(secs) >= 3 {
+		filter3(&secs[0], &secs[1], &secs[2], x)
+		secs = secs[3:]
+	}
+	switch len(secs) {
+	case 2:
+		filter2(&secs[0], &secs[1], x)
+	case 1:
+		filter1(&secs[0], x)
+	}
+}
+
+func filter1(p *sec, x []float64) {
+	b0, b1, b2, a1, a2, z0, z1 := p.b0, p.b1, p.b2, p.a1, p.a2, p.z0, p.z1
+	for j, v := range x {
+		y := b0*v + z0
+		z0 = b1*v - a1*y + z1
+		z1 = b2*v - a2*y
+		x[j] = y
+	}
+	p.z0, p.z1 = z0, z1
+}
+
+func filter2(p, q *sec, x []float64) {
+	pb0, pb1, pb2, pa1, pa2, pz0, pz1 := p.b0, p.b1, p.b2, p.a1, p.a2, p.z0, p.z1
+	qb0, qb1, qb2, qa1, qa2, qz0, qz1 := q.b0, q.b1, q.b2, q.a1, q.a2, q.z0, q.z1
+	for j, v := range x {
+		y := pb0*v + pz0
+		pz0 = pb1*v - pa1*y + pz1
+		pz1 = pb2*v - pa2*y
+		w := qb0*y + qz0
+		qz0 = qb1*y - qa1*w + qz1
+		qz1 = qb2*y - qa2*w
+		x[j] = w
+	}
+	p.z0, p.z1 = pz0, pz1
+	q.z0, q.z1 = qz0, qz1
+}
+
+func filter3(p, q, r *sec, x []float64) {
+	pb0, pb1, pb2, pa1, pa2, pz0, pz1 := p.b0, p.b1, p.b2, p.a1, p.a2, p.z0, p.z1
+	qb0, qb1, qb2, qa1, qa2, qz0, qz1 := q.b0, q.b1, q.b2, q.a1, q.a2, q.z0, q.z1
+	rb0, rb1, rb2, ra1, ra2, rz0, rz1 := r.b0, r.b1, r.b2, r.a1, r.a2, r.z0, r.z1
+	for j, v := range x {
+		y := pb0*v + pz0
+		pz0 = pb1*v - pa1*y + pz1
+		pz1 = pb2*v - pa2*y
+		w := qb0*y + qz0
+		qz0 = qb1*y - qa1*w + qz1
+		qz1 = qb2*y - qa2*w
+		u := rb0*w + rz0
+		rz0 = rb1*w - ra1*u + rz1
+		rz1 = rb2*w - ra2*u
+		x[j] = u
+	}
+	p.z0, p.z1 = pz0, pz1
+	q.z0, q.z1 = qz0, qz1
+	r.z0, r.z1 = rz0, rz1
+}
+
+// run is the Pan-Tompkins pipeline over valid samples of the current
+// segment, in blocks of at most blockN samples.
 func (c *core) run(x []float64) {
-	// Work on stack copies of the sections (the common chain has 3 + 2).
-	var cs, bs [maxSecs]sec
-	nc, nb := copy(cs[:], c.cs), copy(bs[:], c.bs)
+	for len(x) > 0 {
+		k := min(len(x), len(c.blkC))
+		c.runBlock(x[:k])
+		x = x[k:]
+	}
+}
+
+func (c *core) runBlock(x []float64) {
+	bc, bf := c.blkC[:len(x)], c.blkF[:len(x)]
+	copy(bc, x)
+	filterBlock(c.cs, bc)
+	copy(bf, bc)
+	filterBlock(c.bs, bf)
 	cbuf, fbuf, dbuf := c.cbuf, c.fbuf, c.dbuf
 	m := c.mask
 	k8 := c.fs / 8
@@ -554,24 +637,8 @@ func (c *core) run(x []float64) {
 	m1, m2 := c.m1, c.m2
 	sum := c.sum
 	n := c.n
-	for _, v := range x {
-		c.n = n + 1
-		for i := 0; i < nc; i++ {
-			q := &cs[i]
-			y := q.b0*v + q.z0
-			q.z0 = q.b1*v - q.a1*y + q.z1
-			q.z1 = q.b2*v - q.a2*y
-			v = y
-		}
-		cv := v
-		for i := 0; i < nb; i++ {
-			q := &bs[i]
-			y := q.b0*v + q.z0
-			q.z0 = q.b1*v - q.a1*y + q.z1
-			q.z1 = q.b2*v - q.a2*y
-			v = y
-		}
-		fv := v
+	for j, cv := range bc {
+		fv := bf[j]
 		// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise
 		// 12.14); samples before the segment start count as zero.
 		dv := (2*fv + f1 - f3 - 2*f4) * k8
@@ -596,12 +663,14 @@ func (c *core) run(x []float64) {
 			}
 			c.lsumF += af
 			if n-c.seg+1 >= c.learnN {
+				c.n = n + 1
 				c.finishLearning()
 			}
 		}
 		// Peaks of the integrator: a local maximum at n-1; peaks closer
 		// than the refractory period are merged, keeping the larger.
 		if n >= c.pendDue {
+			c.n = n + 1
 			c.finalize(c.pk, c.pv)
 			c.pending = false
 			c.pendDue = math.MaxInt
@@ -620,12 +689,11 @@ func (c *core) run(x []float64) {
 		// (plus a refractory period, so every candidate up to the limit has
 		// been finalised).
 		if n >= c.sbDue {
+			c.n = n + 1
 			c.searchBack(n)
 		}
 		n++
 	}
-	copy(c.cs, cs[:nc])
-	copy(c.bs, bs[:nb])
 	c.f1, c.f2, c.f3, c.f4 = f1, f2, f3, f4
 	c.m1, c.m2 = m1, m2
 	c.sum = sum
