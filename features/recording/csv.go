@@ -433,30 +433,23 @@ func csvGrid(times []float64, opt CSVOptions, force bool) (csvGridSpec, *Resampl
 	return csvGridSpec{rate: rate, n: int(out)}, rep, gaps, nil
 }
 
-// resampleLinear interpolates x (at times) onto the grid; grid points inside
-// a gap interval or next to a NaN are NaN.
+// resampleLinear interpolates x (at times, at least two) onto the grid;
+// grid points inside a gap interval, or between a NaN and its neighbour, are
+// NaN. A grid point on a source time takes that sample as is.
 func resampleLinear(x, times []float64, g csvGridSpec, gaps []bool) []float64 {
 	out := make([]float64, g.n)
-	j := 0
+	last := len(times) - 1
+	j := 0 // source interval [times[j], times[j+1]] holding t
 	for k := range out {
 		t := float64(k) / g.rate
-		for j+1 < len(times)-1 && times[j+1] <= t {
+		for j+1 < last && times[j+1] <= t {
 			j++
 		}
-		if j+1 >= len(times) {
-			out[k] = x[len(x)-1]
-			continue
-		}
-		if t >= times[len(times)-1] {
-			out[k] = x[len(x)-1]
-			continue
-		}
-		if gaps[j] && t > times[j]+1e-9/g.rate {
+		switch a := (t - times[j]) / (times[j+1] - times[j]); {
+		case t >= times[last]:
+			out[k] = x[last] // the grid ends on or (by rounding) just past the last row
+		case gaps[j] && t > times[j]+1e-9/g.rate:
 			out[k] = nan
-			continue
-		}
-		a := (t - times[j]) / (times[j+1] - times[j])
-		switch {
 		case a == 0:
 			out[k] = x[j]
 		default:
