@@ -69,6 +69,10 @@ type Config struct {
 	// detecting them on the ECG: the NN series joins consecutive normal
 	// beats (code "N"), and records without signals work too.
 	BeatsAnnotator string `json:"beats_annotator,omitempty"`
+	// NoECGQuality leaves out the ECG quality columns (ecg.WindowQuality
+	// per step), which cost about as much as beat detection and HRV
+	// together.
+	NoECGQuality bool `json:"no_ecg_quality,omitempty"`
 	// Labels are extra labelled intervals (e.g. from ReadLabelsCSV) that
 	// become label columns beside those from the recording's annotations.
 	Labels []Label `json:"labels,omitempty"`

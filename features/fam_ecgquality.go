@@ -32,7 +32,7 @@ var ecgQualityCols = []Column{
 // family: the engine's sample windows of the ECG channel, ecg.WindowQuality
 // per window), or nil when HRV does not detect beats on an ECG channel.
 func newECGQualityFamily(rec *recording.Recording, cfg Config, withData bool) *family {
-	if !cfg.wants(FamilyHRV) || cfg.BeatsAnnotator != "" {
+	if !cfg.wants(FamilyHRV) || cfg.BeatsAnnotator != "" || cfg.NoECGQuality {
 		return nil
 	}
 	ch := cfg.findRole(rec, recording.RoleECG)

@@ -170,10 +170,11 @@ func (f *family) batch(g window.Grid) ([]famResult, error) {
 		}
 	}
 	sort.Slice(order, func(i, j int) bool { return order[i] < order[j] })
-	out := make([]famResult, 0, len(order))
-	for _, q := range order {
-		out = append(out, f.runWindow(fillSegs(bySeq[q], f.inputs, q)))
-	}
+	out := make([]famResult, len(order))
+	parallel(len(order), func(i int) {
+		q := order[i]
+		out[i] = f.runWindow(fillSegs(bySeq[q], f.inputs, q))
+	})
 	return out, nil
 }
 

@@ -72,6 +72,7 @@ func runFeatures(args []string, stdout, stderr io.Writer) error {
 	labels := fs.String("labels", "", "CSV `file` of labelled UTC intervals start,end,label (RFC 3339)")
 	start := fs.String("start", "", "UTC start (RFC 3339) for records whose files give none")
 	quiet := fs.Bool("q", false, "no progress bar")
+	noQ := fs.Bool("no-ecg-quality", false, "leave out the ECG quality columns (faster)")
 	roles := roleFlags{}
 	fs.Var(roles, "role", "set a channel role, `CHANNEL=ROLE` (ecg, rib_cage, abdomen, acc_x, acc_y, acc_z, unknown); repeatable")
 	fs.Usage = func() {
@@ -97,7 +98,7 @@ func runFeatures(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	cfg := features.Config{Step: *step, HRVWindow: *hrvW, BreathingWindow: *brW, ActivityWindow: *actW,
-		MinCoverage: *minCov, BeatsAnnotator: *beats, Roles: roles}
+		MinCoverage: *minCov, BeatsAnnotator: *beats, Roles: roles, NoECGQuality: *noQ}
 	switch *anchor {
 	case "epoch":
 		cfg.Anchor = window.AnchorEpoch
