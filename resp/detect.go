@@ -31,8 +31,11 @@ import (
 // (the drift-removed detection signal sets that reference until three
 // breaths are known). Measuring from the last extremum rather than from a
 // baseline keeps shallow breaths after deep ones, and breaths on a drifting
-// baseline, detectable. After 15 s with no breath the reference decays (time
-// constant 30 s, to a quarter) so a lasting fall of amplitude is followed. A
+// baseline, detectable. After two breath lengths (at least 8 s) with no
+// breath the reference decays (time constant 30 s, to 35 %, so nothing at
+// the apnea level of 10 % is taken for a breath); a breath accepted only
+// thanks to the decay restarts the reference from itself, so a lasting step
+// down of ventilation is followed within a few breaths. A
 // flat trough longer than PauseMinS is split into end of expiration, pause
 // and next onset.
 func Detect(rib, abd []float64, opt Options) (Result, error) {
@@ -273,11 +276,15 @@ func (c *core) reference() float64 {
 	if len(c.amps) < 3 {
 		r = c.warmHi - c.warmLo
 	}
-	if el := float64(c.n-c.lastAccept) / c.fs; el > 15 {
-		r *= math.Max(0.25, math.Exp(-(el-15)/30))
+	if el, d := float64(c.n-c.lastAccept)/c.fs, c.decayDelay(); el > d {
+		r *= math.Max(0.35, math.Exp(-(el-d)/30))
 	}
 	return r
 }
+
+// decayDelay is how long without a clean breath before the reference
+// decays: two recent breath lengths, at least 8 s (our choice).
+func (c *core) decayDelay() float64 { return math.Max(8, 2*c.medTtot) }
 
 func (c *core) step(rib, abd float64) {
 	if !(math.Abs(rib) <= maxSample) || !(math.Abs(abd) <= maxSample) {
@@ -647,6 +654,17 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 		c.emitQuiet(endExp, next)
 	}
 	if b.Quality&^QualityLongPause == 0 {
+		if float64(c.n-c.lastAccept)/c.fs > c.decayDelay() && len(c.amps) >= 3 && vt < 0.5*c.ref {
+			// Accepted only thanks to the decayed reference: breathing has
+			// stepped down (the end of exercise) rather than paused, so
+			// the recent breaths no longer describe it. Start the
+			// reference afresh from this breath.
+			c.amps, c.ribs, c.abds, c.tis, c.tes = c.amps[:0], c.ribs[:0], c.abds[:0], c.tis[:0], c.tes[:0]
+			c.recentPos = 0
+			for range nRecent - 1 {
+				c.remember(vt, b.RibExcAU, b.AbdExcAU, b.TiS, b.TeS)
+			}
+		}
 		c.remember(vt, b.RibExcAU, b.AbdExcAU, b.TiS, b.TeS)
 		c.lastAccept = c.n
 	}
