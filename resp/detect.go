@@ -588,7 +588,9 @@ func (c *core) finish(on, pk, endExp, next int, ref float64, long bool) {
 	vt := c.m[pk&c.mask] - c.m[on&c.mask]
 	ti := float64(pk-on) / c.fs
 	te := float64(endExp-pk) / c.fs
-	if endExp-on < c.minBreathN || pk <= on || endExp <= pk || !(vt >= 2*c.o.HysteresisFrac*ref) {
+	// The delay-corrected onset must not precede the segment's first
+	// sample: such a trough was the start of the data, not of a breath.
+	if endExp-on < c.minBreathN || pk <= on || endExp <= pk || !(vt >= 2*c.o.HysteresisFrac*ref) || c.t(on) < c.tRaw(c.startN) {
 		c.out.Discarded++
 		c.emitQuiet(on, next)
 		return
