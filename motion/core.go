@@ -73,8 +73,12 @@ type processor struct {
 	conv float64 // unit factor to g
 	mi   [3]int  // device index of up, left, forward
 	ms   [3]float64
-	bo   [3]float64 // body-axis offset, g
-	bs   [3]float64 // body-axis scale from raw units to g
+	bo   [3]float64    // body-axis offset, g
+	bs   [3]float64    // body-axis scale from raw units to g
+	rot  bool          // Mount.Matrix given: calibrate (do, ds) then rotate (rm)
+	rm   [3][3]float64 // rows: body up, left, forward in device axes
+	do   [3]float64    // device-axis offset, g
+	ds   [3]float64    // device-axis scale from raw units to g
 
 	n       int // samples processed
 	outBase int // global index of out[0]
@@ -120,7 +124,22 @@ func newProcessor(rateHz float64, opts Options) (*processor, error) {
 	if o.Unit == UnitMS2 {
 		p.conv = 1 / StandardGravity
 	}
+	if r := o.Mount.Matrix; r != nil {
+		// General rotation: device values are calibrated first (dev), then
+		// rotated per sample.
+		p.rot, p.rm = true, *r
+		for k := 0; k < 3; k++ {
+			off, sc := 0.0, 1.0
+			if c := o.Calibration; c != nil {
+				off, sc = c.OffsetG[k], c.Scale[k]
+			}
+			p.do[k], p.ds[k] = off, sc*p.conv
+		}
+	}
 	for k, a := range []Axis{o.Mount.Up, o.Mount.Left, o.Mount.Forward} {
+		if p.rot {
+			break
+		}
 		p.mi[k], p.ms[k] = a.index()
 		off, sc := 0.0, 1.0
 		if c := o.Calibration; c != nil {
@@ -196,7 +215,15 @@ func (p *processor) step(x, y, z float64) {
 	// Unit, calibration and mounting folded into one affine map per body
 	// axis (newProcessor): b = offset + scale * raw device axis.
 	raw := [3]float64{x, y, z}
-	b := [3]float64{p.bo[0] + p.bs[0]*raw[p.mi[0]], p.bo[1] + p.bs[1]*raw[p.mi[1]], p.bo[2] + p.bs[2]*raw[p.mi[2]]}
+	var b [3]float64
+	if p.rot {
+		d := [3]float64{p.do[0] + p.ds[0]*x, p.do[1] + p.ds[1]*y, p.do[2] + p.ds[2]*z}
+		for k := range b {
+			b[k] = p.rm[k][0]*d[0] + p.rm[k][1]*d[1] + p.rm[k][2]*d[2]
+		}
+	} else {
+		b = [3]float64{p.bo[0] + p.bs[0]*raw[p.mi[0]], p.bo[1] + p.bs[1]*raw[p.mi[1]], p.bo[2] + p.bs[2]*raw[p.mi[2]]}
+	}
 	vm := math.Sqrt(b[0]*b[0] + b[1]*b[1] + b[2]*b[2])
 	if !(vm <= maxPlausibleG) {
 		// Not a physical acceleration (or an overflow): flag it rather than

@@ -512,3 +512,48 @@ func TestHelpersBadInput(t *testing.T) {
 		t.Errorf("unknown unit: %v", err)
 	}
 }
+
+// A patch tilted 20° on the chest: with the mounting derived from a standing
+// period (MountFromUpright), postures and inclinations come out as for an
+// untilted device (derived: the rotation is exact); without it standing reads
+// as 20° inclined.
+func TestTiltedMountFromUpright(t *testing.T) {
+	a := 20 * math.Pi / 180
+	up := [3]float64{0, math.Cos(a), math.Sin(a)}   // body up in device axes
+	fwd := [3]float64{0, -math.Sin(a), math.Cos(a)} // body forward in device axes
+	left := [3]float64{up[1]*fwd[2] - up[2]*fwd[1], up[2]*fwd[0] - up[0]*fwd[2], up[0]*fwd[1] - up[1]*fwd[0]}
+	dev := func(u, l, f float64) func(float64) (float64, float64, float64) {
+		return func(float64) (float64, float64, float64) {
+			return u*up[0] + l*left[0] + f*fwd[0], u*up[1] + l*left[1] + f*fwd[1], u*up[2] + l*left[2] + f*fwd[2]
+		}
+	}
+	m, err := motion.MountFromUpright(up[0], up[1], up[2], motion.PosZ)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		u, l, f float64
+		want    motion.Posture
+		incl    float64
+	}{{1, 0, 0, motion.PostureUpright, 0}, {0, 0, 1, motion.PostureSupine, 90}, {0, -1, 0, motion.PostureLeft, 90}, {0, 1, 0, motion.PostureRight, 90}, {0, 0, -1, motion.PostureProne, 90}} {
+		x, y, z := gen(50, 30, dev(c.u, c.l, c.f))
+		e := oneEpoch(t, x, y, z, 50, motion.Options{Mount: m})
+		if e.Posture != c.want {
+			t.Errorf("body (%v,%v,%v): posture %v, want %v", c.u, c.l, c.f, e.Posture, c.want)
+		}
+		near(t, "inclination", e.InclinationDeg, c.incl, 1e-3)
+	}
+	x, y, z := gen(50, 30, dev(1, 0, 0))
+	near(t, "untilted mount on the tilted patch", oneEpoch(t, x, y, z, 50, motion.Options{}).InclinationDeg, 20, 1e-3)
+	bad := [3][3]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 2}}
+	if err := (motion.Mount{Matrix: &bad}).Validate(); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("non-orthonormal matrix: %v", err)
+	}
+	refl := [3][3]float64{{0, 1, 0}, {-1, 0, 0}, {0, 0, 1}} // left = -(up × forward)
+	if err := (motion.Mount{Matrix: &refl}).Validate(); !errors.Is(err, motion.ErrOptions) {
+		t.Errorf("reflection: %v", err)
+	}
+	if _, err := motion.MountFromUpright(0, 0, 1, motion.PosZ); !errors.Is(err, motion.ErrInput) {
+		t.Errorf("forward along up: %v", err)
+	}
+}

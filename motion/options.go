@@ -119,6 +119,12 @@ func (a Axis) String() string {
 // (0, 1, 0).
 type Mount struct {
 	Up, Left, Forward Axis
+	// Matrix, when non-nil, replaces the three axes with a general rotation
+	// for a device that sits tilted: its rows are the body's up, left and
+	// forward directions in device coordinates (unit vectors, mutually
+	// orthogonal, left = up × forward), so body = Matrix · device.
+	// MountFromUpright builds one from a standing period.
+	Matrix *[3][3]float64
 }
 
 // DefaultMount is the chest mounting used when Options.Mount is zero.
@@ -134,6 +140,26 @@ func (m Mount) orDefault() Mount {
 // Validate reports whether the mount names three distinct device axes.
 func (m Mount) Validate() error {
 	m = m.orDefault()
+	if r := m.Matrix; r != nil {
+		for i := 0; i < 3; i++ {
+			for j := 0; j < 3; j++ {
+				d := r[i][0]*r[j][0] + r[i][1]*r[j][1] + r[i][2]*r[j][2]
+				want := 0.0
+				if i == j {
+					want = 1
+				}
+				if !(math.Abs(d-want) < 1e-6) {
+					return fmt.Errorf("motion: mount matrix rows %d and %d not orthonormal (dot %v): %w", i, j, d, ErrOptions)
+				}
+			}
+		}
+		// Right-handed as the axes convention: left = up × forward.
+		c := cross(r[0], r[2])
+		if !(c[0]*r[1][0]+c[1]*r[1][1]+c[2]*r[1][2] > 0) {
+			return fmt.Errorf("motion: mount matrix is a reflection (left is not up × forward): %w", ErrOptions)
+		}
+		return nil
+	}
 	seen := [3]bool{}
 	for _, a := range []Axis{m.Up, m.Left, m.Forward} {
 		i, _ := a.index()
@@ -146,6 +172,47 @@ func (m Mount) Validate() error {
 		seen[i] = true
 	}
 	return nil
+}
+
+func cross(a, b [3]float64) [3]float64 {
+	return [3]float64{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
+}
+
+// MountFromUpright returns the mounting of a device that may sit tilted,
+// from the mean acceleration of a period of quiet standing (gx, gy, gz in
+// device axes, any unit: only the direction counts) and the signed device
+// axis that points roughly out of the chest. Up is the measured gravity
+// reaction; forward is that device axis with its component along up
+// removed; left = up × forward. It fails when the vector is zero or
+// the forward axis lies within 10° of up.
+func MountFromUpright(gx, gy, gz float64, forward Axis) (Mount, error) {
+	up := [3]float64{gx, gy, gz}
+	n := math.Sqrt(gx*gx + gy*gy + gz*gz)
+	if !(n > 0) || math.IsInf(n, 0) {
+		return Mount{}, fmt.Errorf("motion: upright vector (%v, %v, %v): %w", gx, gy, gz, ErrInput)
+	}
+	for k := range up {
+		up[k] /= n
+	}
+	i, sg := forward.index()
+	if i < 0 {
+		return Mount{}, fmt.Errorf("motion: forward axis %v unknown: %w", forward, ErrOptions)
+	}
+	var f [3]float64
+	f[i] = sg
+	d := f[0]*up[0] + f[1]*up[1] + f[2]*up[2]
+	if math.Abs(d) > math.Cos(10*math.Pi/180) {
+		return Mount{}, fmt.Errorf("motion: forward axis %v within 10° of the upright direction: %w", forward, ErrInput)
+	}
+	for k := range f {
+		f[k] -= d * up[k]
+	}
+	fn := math.Sqrt(f[0]*f[0] + f[1]*f[1] + f[2]*f[2])
+	for k := range f {
+		f[k] /= fn
+	}
+	m := [3][3]float64{up, cross(up, f), f}
+	return Mount{Matrix: &m}, nil
 }
 
 // CountMode names one way the band-passed, rectified signal becomes
