@@ -206,3 +206,54 @@ func lissajousPhase(y, x []float64) float64 {
 	}
 	return ph
 }
+
+// WindowPhase returns the thoraco-abdominal phase over a stretch of band
+// samples holding several breaths (a window), by both methods: the lag of
+// maximum cross-correlation over the whole stretch (Prisk et al. 2002) with
+// lags up to half of periodS (pass the window's median breath length,
+// Breath.TtotS), and the Lissajous loop width averaged over every mid-level
+// crossing of the stretch. Each band is first detrended by its
+// least-squares line so slow drift does not move the mid-level. NaN samples
+// are not allowed (use a stretch inside a gap-free span); the result is NaN
+// with ErrUndefined when a band is flat.
+func WindowPhase(rib, abd []float64, rateHz, periodS float64) (xcorrDeg, lissajousDeg float64, err error) {
+	if len(rib) != len(abd) || !(rateHz > 0) || math.IsInf(rateHz, 0) || !(periodS > 0) || !finite(periodS) {
+		return math.NaN(), math.NaN(), fmt.Errorf("resp: window phase: %d and %d samples, rate %v Hz, period %v s: %w", len(rib), len(abd), rateHz, periodS, ErrInput)
+	}
+	for i := range rib {
+		if !finite(rib[i]) || !finite(abd[i]) {
+			return math.NaN(), math.NaN(), fmt.Errorf("resp: window phase: sample %d not finite: %w", i, ErrInput)
+		}
+	}
+	r, a := detrend(rib), detrend(abd)
+	xcorrDeg = xcorrPhase(r, a, rateHz, periodS)
+	lissajousDeg = lissajousPhase(r, a)
+	if math.IsNaN(xcorrDeg) && math.IsNaN(lissajousDeg) {
+		err = fmt.Errorf("resp: window phase: flat or too short: %w", ErrUndefined)
+	}
+	return xcorrDeg, lissajousDeg, err
+}
+
+// detrend returns x minus its least-squares line.
+func detrend(x []float64) []float64 {
+	n := float64(len(x))
+	var st, sx, stt, stx float64
+	for i, v := range x {
+		t := float64(i)
+		st += t
+		sx += v
+		stt += t * t
+		stx += t * v
+	}
+	den := n*stt - st*st
+	b := 0.0
+	if den != 0 {
+		b = (n*stx - st*sx) / den
+	}
+	a := (sx - b*st) / n
+	out := make([]float64, len(x))
+	for i, v := range x {
+		out[i] = v - a - b*float64(i)
+	}
+	return out
+}
