@@ -564,6 +564,42 @@ func filterBlock(secs []sec, x []float64) {
 	}
 }
 
+// filter32 runs x through three conditioning sections into dc and on
+// through two band-pass sections into df, all five states in registers.
+func filter32(cs, bs []sec, x, dc, df []float64) {
+	p, q, r, u, w := &cs[0], &cs[1], &cs[2], &bs[0], &bs[1]
+	pb0, pb1, pb2, pa1, pa2, pz0, pz1 := p.b0, p.b1, p.b2, p.a1, p.a2, p.z0, p.z1
+	qb0, qb1, qb2, qa1, qa2, qz0, qz1 := q.b0, q.b1, q.b2, q.a1, q.a2, q.z0, q.z1
+	rb0, rb1, rb2, ra1, ra2, rz0, rz1 := r.b0, r.b1, r.b2, r.a1, r.a2, r.z0, r.z1
+	ub0, ub1, ub2, ua1, ua2, uz0, uz1 := u.b0, u.b1, u.b2, u.a1, u.a2, u.z0, u.z1
+	wb0, wb1, wb2, wa1, wa2, wz0, wz1 := w.b0, w.b1, w.b2, w.a1, w.a2, w.z0, w.z1
+	dc, df = dc[:len(x)], df[:len(x)]
+	for j, v := range x {
+		y1 := pb0*v + pz0
+		pz0 = pb1*v - pa1*y1 + pz1
+		pz1 = pb2*v - pa2*y1
+		y2 := qb0*y1 + qz0
+		qz0 = qb1*y1 - qa1*y2 + qz1
+		qz1 = qb2*y1 - qa2*y2
+		y3 := rb0*y2 + rz0
+		rz0 = rb1*y2 - ra1*y3 + rz1
+		rz1 = rb2*y2 - ra2*y3
+		dc[j] = y3
+		y4 := ub0*y3 + uz0
+		uz0 = ub1*y3 - ua1*y4 + uz1
+		uz1 = ub2*y3 - ua2*y4
+		y5 := wb0*y4 + wz0
+		wz0 = wb1*y4 - wa1*y5 + wz1
+		wz1 = wb2*y4 - wa2*y5
+		df[j] = y5
+	}
+	p.z0, p.z1 = pz0, pz1
+	q.z0, q.z1 = qz0, qz1
+	r.z0, r.z1 = rz0, rz1
+	u.z0, u.z1 = uz0, uz1
+	w.z0, w.z1 = wz0, wz1
+}
+
 func filter1(p *sec, x []float64) {
 	b0, b1, b2, a1, a2, z0, z1 := p.b0, p.b1, p.b2, p.a1, p.a2, p.z0, p.z1
 	for j, v := range x {
@@ -624,10 +660,15 @@ func (c *core) run(x []float64) {
 
 func (c *core) runBlock(x []float64) {
 	bc, bf := c.blkC[:len(x)], c.blkF[:len(x)]
-	copy(bc, x)
-	filterBlock(c.cs, bc)
-	copy(bf, bc)
-	filterBlock(c.bs, bf)
+	if len(c.cs) == 3 && len(c.bs) == 2 {
+		// The default chain (high-pass, two notches; band-pass) in one pass.
+		filter32(c.cs, c.bs, x, bc, bf)
+	} else {
+		copy(bc, x)
+		filterBlock(c.cs, bc)
+		copy(bf, bc)
+		filterBlock(c.bs, bf)
+	}
 	cbuf, fbuf, dbuf := c.cbuf, c.fbuf, c.dbuf
 	m := c.mask
 	k8 := c.fs / 8
