@@ -178,6 +178,9 @@ func Extract(rec *recording.Recording, cfg Config) (*Table, error) {
 	}
 	t := &Table{Record: rec.Name, Columns: p.cols, StartKnown: rec.StartKnown && !rec.Start.IsZero()}
 	index := map[int64]int{}
+	if dataEnd(rec, p) <= 0 {
+		return t, nil // no samples, no annotations: no rows
+	}
 	for w := range it {
 		index[w.Seq] = len(t.Rows)
 		t.Rows = append(t.Rows, p.newRow(w))

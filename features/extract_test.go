@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -402,5 +403,53 @@ func TestAllFamiliesStreamEqualsBatch(t *testing.T) {
 		rng := rand.New(rand.NewPCG(uint64(trial), 1234))
 		got := streamRows(t, rec, cfg, rng, []float64{0.3, 11, 400}[trial])
 		rowsEqual(t, want.Rows, got)
+	}
+}
+
+func TestStreamErrors(t *testing.T) {
+	rec, _ := simAccel(t, walkRunSchedule()[:1], 1)
+	s, err := NewStream(rec, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Push(7, []float64{1}); !errors.Is(err, ErrInput) {
+		t.Errorf("push to channel 7: %v", err)
+	}
+	if err := s.Push(0, rec.Channels[0].Samples[:100]); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Gap(0, window.Interval{Start: 1, End: 2}); !errors.Is(err, ErrInput) {
+		t.Errorf("gap over pushed samples: %v", err)
+	}
+	if s.Err() == nil {
+		t.Error("stream usable after a misplaced gap")
+	}
+	s2, _ := NewStream(rec, Config{})
+	if err := s2.Gap(1, window.Interval{Start: 5, End: math.NaN()}); !errors.Is(err, ErrInput) {
+		t.Errorf("NaN gap: %v", err)
+	}
+	s3, _ := NewStream(rec, Config{})
+	if err := s3.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if n := len(slices.Collect(s3.Ready())); n != 0 {
+		t.Errorf("%d rows from an empty stream", n)
+	}
+	if err := s3.Push(0, []float64{0}); !errors.Is(err, ErrInput) {
+		t.Errorf("push after close: %v", err)
+	}
+	if _, err := NewStream(rec, Config{BeatsAnnotator: "atr"}); !errors.Is(err, ErrConfig) {
+		t.Errorf("beats annotator in a stream: %v", err)
+	}
+}
+
+func TestEmptyRecording(t *testing.T) {
+	rec := &recording.Recording{Name: "empty", Start: testStart, Channels: []recording.Channel{{Name: "ECG", RateHz: 250, Role: recording.RoleECG}}}
+	tab, err := Extract(rec, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tab.Rows) != 0 {
+		t.Errorf("%d rows from a recording without samples", len(tab.Rows))
 	}
 }

@@ -207,7 +207,9 @@ func (s *Stream) collect(fam int, res []famResult) {
 // release moves rows whose families have all passed them to the output.
 func (s *Stream) release() {
 	for w := range s.rows.Ready() {
-		s.rowWin[w.Seq] = w
+		if s.extent > 0 {
+			s.rowWin[w.Seq] = w
+		}
 	}
 	for len(s.rowWin) > 0 {
 		q := int64(math.MaxInt64)
@@ -231,25 +233,6 @@ func (s *Stream) release() {
 		delete(s.res, q)
 		s.out = append(s.out, row)
 	}
-	// Family windows older than every remaining row belong to no row.
-	if len(s.rowWin) == 0 {
-		for q := range s.res {
-			if s.closed || q < s.firstOpen() {
-				delete(s.res, q)
-			}
-		}
-	}
-}
-
-// firstOpen is the smallest Seq any driver may still return.
-func (s *Stream) firstOpen() int64 {
-	m := int64(math.MaxInt64)
-	for _, d := range s.drv {
-		if d != nil {
-			m = min(m, d.done())
-		}
-	}
-	return m
 }
 
 // Close ends every channel: the windows the last samples complete are
@@ -276,6 +259,7 @@ func (s *Stream) Close() error {
 	}
 	s.closed = true
 	s.release()
+	s.res = nil // results past the last row belong to no row
 	return nil
 }
 

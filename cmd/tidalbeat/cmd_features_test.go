@@ -75,9 +75,27 @@ func featCol(head []string, name string) int {
 // record and every beat annotation is counted once.
 func TestFeaturesBeatsRecord100(t *testing.T) {
 	hea := refdata.Shared(t, "physionet/mitdb/100.hea")
+	beatsRecord100(t, strings.TrimSuffix(hea, ".hea"), 3)
+}
+
+// TestFeaturesBeatsAnnotationOnly runs -beats on an annotation-only record:
+// record 100's reference annotations beside a header with zero signals.
+func TestFeaturesBeatsAnnotationOnly(t *testing.T) {
+	atr, err := os.ReadFile(refdata.Shared(t, "physionet/mitdb/100.atr"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "100.atr"), atr, 0o644)
+	os.WriteFile(filepath.Join(dir, "100.hea"), []byte("100 0 360 650000\n"), 0o644)
+	beatsRecord100(t, filepath.Join(dir, "100"), 2)
+}
+
+func beatsRecord100(t *testing.T, rec string, files int) {
+	t.Helper()
 	out := filepath.Join(t.TempDir(), "r100.csv")
 	var so, se bytes.Buffer
-	if code := run([]string{"features", strings.TrimSuffix(hea, ".hea"), "-beats", "atr", "-step", "5m", "-o", out}, &so, &se); code != 0 {
+	if code := run([]string{"features", rec, "-beats", "atr", "-step", "5m", "-o", out}, &so, &se); code != 0 {
 		t.Fatalf("exit %d: %s", code, se.String())
 	}
 	head, rows := readFeatCSV(t, out)
@@ -121,7 +139,7 @@ func TestFeaturesBeatsRecord100(t *testing.T) {
 	if err := json.Unmarshal(data, &meta); err != nil {
 		t.Fatal(err)
 	}
-	if len(meta["inputs"].([]any)) != 3 {
+	if len(meta["inputs"].([]any)) != files {
 		t.Errorf("sidecar inputs %v", meta["inputs"])
 	}
 }
@@ -144,6 +162,10 @@ func TestFeaturesCohortPartitioned(t *testing.T) {
 	}
 	if !strings.Contains(se.String(), "broken.edf") || !strings.Contains(se.String(), "1 of 3 records failed") {
 		t.Errorf("stderr %q", se.String())
+	}
+	// stderr is not a terminal: no progress bar, only the two error lines.
+	if n := strings.Count(strings.TrimSpace(se.String()), "\n"); n != 1 {
+		t.Errorf("stderr has %d lines, want 2 (no progress bar off a terminal): %q", n+1, se.String())
 	}
 	type row struct {
 		TimeUTC time.Time `parquet:"time_utc,timestamp(microsecond)"`
