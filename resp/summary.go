@@ -79,7 +79,7 @@ var summaryColumns = [numCols]string{
 	colFlowAU:    "insp_flow_au_s", // the same in AU/s
 	colFlowCV:    "insp_flow_cv_pct",
 	colSighs:     "sighs_n",
-	colPhaseXC:   "phase_xcorr_deg",     // median per-breath cross-correlation phase
+	colPhaseXC:   "phase_xcorr_deg",     // median per-breath cross-correlation phase (WindowPhase gives it from samples)
 	colPhaseLis:  "phase_lissajous_deg", // median per-breath Lissajous phase
 	colParadox:   "paradox_time_frac",   // share of breath time in paradoxical breaths
 	colApneas:    "apneas_n",            // candidate apneas starting in the window
