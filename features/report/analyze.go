@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
 	"github.com/tidalbeat/tidalbeat/features"
@@ -43,10 +44,9 @@ type Analysis struct {
 	ECGGaps []window.Interval
 	// NN is the cleaned NN series of the whole recording.
 	NN ecg.NN
-	// Breaths are the detected breaths (resp.Detect on the QDC-weighted
-	// band sum); BreathCalibration the weights used.
-	Breaths           []resp.Breath
-	BreathCalibration resp.Calibration
+	// Breaths are the detected breaths (resp.Detect on the band sum, QDC
+	// weights per posture).
+	Breaths []resp.Breath
 	// Events are the candidate apneas and hypopneas (resp.DetectEvents,
 	// AASM amplitude and duration criteria on the band sum).
 	Events []resp.Event
@@ -82,15 +82,15 @@ func Analyze(rec *recording.Recording, opt Options) (*Analysis, error) {
 	if err := a.heart(rec); err != nil {
 		a.Missing = append(a.Missing, "ECG: "+err.Error())
 	}
-	if err := a.breathing(rec, opt); err != nil {
-		a.Missing = append(a.Missing, "breaths: "+err.Error())
-	}
 	t, err := features.Extract(rec, opt.Features)
 	if err != nil {
 		return nil, fmt.Errorf("report: %w", err)
 	}
 	a.Table = t
 	a.fromTable(opt.Features)
+	if err := a.breathing(rec, opt); err != nil {
+		a.Missing = append(a.Missing, "breaths: "+err.Error())
+	}
 	a.segmentStats()
 	for _, m := range a.Missing {
 		in.Facts = append(in.Facts, Fact{Name: "not analysed", Value: m})
@@ -216,13 +216,57 @@ func (a *Analysis) spectrum() {
 	}
 }
 
-// qdcSpanS is the stretch of natural breathing the relative calibration is
-// taken from: the first 5 minutes (Sackner et al. 1989 used about 5 min).
+// qdcSpanS is the stretch of natural breathing a relative calibration is
+// taken from: 5 minutes in one posture (Sackner et al. 1989 used about
+// 5 min of natural breathing in one posture).
 const qdcSpanS = 300
 
-// breathing detects breaths on the bands, weighted by QDC over the first
-// qdcSpanS (equal weights when QDC is undefined), and keeps an excerpt of
-// the weighted sum for the breathing-trace figure.
+// postureRuns splits [0, end) into runs of one posture from the table's
+// per-window posture (unknown windows join the run they fall in); runs
+// shorter than qdcSpanS join the run before them (or after, at the start).
+// Without posture there is one run.
+func (a *Analysis) postureRuns(end float64) []Span {
+	act := a.Input.Activity
+	var runs []Span
+	for i, p := range act.Posture {
+		if p == "" {
+			continue
+		}
+		t0 := math.Max(0, act.TimeS[i])
+		if n := len(runs); n > 0 && runs[n-1].Label == p {
+			continue
+		} else if n > 0 {
+			runs[n-1].End = t0
+		} else {
+			t0 = 0
+		}
+		runs = append(runs, Span{Start: t0, End: end, Label: p})
+	}
+	if len(runs) == 0 {
+		return []Span{{Start: 0, End: end}}
+	}
+	var out []Span
+	for _, r := range runs {
+		switch {
+		case r.End-r.Start >= qdcSpanS || len(out) == 0:
+			if n := len(out); n > 0 && out[n-1].End-out[n-1].Start < qdcSpanS {
+				out[n-1].End, out[n-1].Label = r.End, r.Label // a short first run joins the next
+				continue
+			}
+			out = append(out, r)
+		default:
+			out[len(out)-1].End = r.End
+		}
+	}
+	return out
+}
+
+// breathing detects breaths on the bands, posture by posture: each run of
+// one posture gets its own QDC weight (QDC is posture-specific,
+// resp.QDCCaveat) from its first qdcSpanS, the previous run's weight or
+// equal weights when QDC is undefined there. Candidate events are detected on the
+// breaths of all runs together, and an excerpt of the weighted sum is kept
+// for the breathing-trace figure.
 func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	rc, okr := rec.Channel(recording.RoleRibCage)
 	ab, oka := rec.Channel(recording.RoleAbdomen)
@@ -232,21 +276,51 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	if rc.RateHz != ab.RateHz {
 		return fmt.Errorf("bands at different rates (%g, %g Hz)", rc.RateHz, ab.RateHz)
 	}
+	fs := rc.RateHz
 	n := min(len(rc.Samples), len(ab.Samples))
-	ropt := resp.Options{RateHz: rc.RateHz}
-	q := min(n, int(qdcSpanS*rc.RateHz))
+	var res resp.Result
+	var notes []string
 	cal := resp.Calibration{}
-	note := "equal band weights (QDC undefined on the first 5 min)"
-	if qr, err := resp.QDC(rc.Samples[:q], ab.Samples[:q], ropt, resp.QDCOptions{}); err == nil && isFinite(qr.K) && qr.K > 0 {
-		cal = qr.Calibration()
-		note = fmt.Sprintf("QDC weight K = %.3f from %d of %d breaths in the first 5 min (relative calibration; %s)", qr.K, qr.Used, qr.Total, resp.QDCCaveat)
+	weights := make([][2]float64, 0, 4) // per run, for the excerpt
+	runs := a.postureRuns(float64(n) / fs)
+	for _, r := range runs {
+		i0, i1 := int(math.Round(r.Start*fs)), min(n, int(math.Round(r.End*fs)))
+		if i1-i0 < int(10*fs) {
+			weights = append(weights, [2]float64{math.NaN(), math.NaN()})
+			continue
+		}
+		ropt := resp.Options{RateHz: fs, StartS: float64(i0) / fs}
+		// QDC from the first qdcSpanS of the run.
+		q0, q1 := i0, min(i1, i0+int(qdcSpanS*fs))
+		qopt := resp.Options{RateHz: fs, StartS: float64(q0) / fs}
+		what := "kept the previous weights"
+		if qr, err := resp.QDC(rc.Samples[q0:q1], ab.Samples[q0:q1], qopt, resp.QDCOptions{}); err == nil && isFinite(qr.K) && qr.K > 0 {
+			cal = qr.Calibration()
+			what = fmt.Sprintf("K = %.3f from %d of %d breaths at %.0f-%.0f s", qr.K, qr.Used, qr.Total, float64(q0)/fs, float64(q1)/fs)
+		}
+		ropt.Calibration = cal
+		rr, err := resp.Detect(rc.Samples[i0:i1], ab.Samples[i0:i1], ropt)
+		if err != nil {
+			return err
+		}
+		res.Breaths = append(res.Breaths, rr.Breaths...)
+		res.Pauses = append(res.Pauses, rr.Pauses...)
+		res.Gaps = append(res.Gaps, rr.Gaps...)
+		res.Discarded += rr.Discarded
+		res.Calibration = rr.Calibration
+		rw, aw := cal.RibWeight, cal.AbdWeight
+		if rw == 0 && aw == 0 {
+			rw, aw = 1, 1
+		}
+		weights = append(weights, [2]float64{rw, aw})
+		label := r.Label
+		if label == "" {
+			label = "whole recording"
+		}
+		notes = append(notes, fmt.Sprintf("%s %.0f-%.0f s: %s", label, r.Start, r.End, what))
 	}
-	ropt.Calibration = cal
-	res, err := resp.Detect(rc.Samples[:n], ab.Samples[:n], ropt)
-	if err != nil {
-		return err
-	}
-	a.Breaths, a.BreathCalibration = res.Breaths, cal
+	note := "QDC per posture (relative calibration; " + resp.QDCCaveat + "): " + strings.Join(notes, "; ")
+	a.Breaths = res.Breaths
 	in := a.Input
 	if ev, err := resp.DetectEvents(res, resp.EventOptions{}); err != nil {
 		a.Missing = append(a.Missing, "respiratory events: "+err.Error())
@@ -283,14 +357,16 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	}
 	t0 = math.Max(0, math.Min(t0, float64(n)/rc.RateHz-opt.ExcerptS))
 	i0, i1 := int(t0*rc.RateHz), min(n, int((t0+opt.ExcerptS)*rc.RateHz))
-	rw, aw := cal.RibWeight, cal.AbdWeight
-	if rw == 0 && aw == 0 {
-		rw, aw = 1, 1
-	}
 	b := &in.Breath
-	b.T0S, b.RateHz, b.Unit, b.Note = float64(i0)/rc.RateHz, rc.RateHz, cal.VolumeUnit(), why+" Weighted band sum, unfiltered."
+	b.T0S, b.RateHz, b.Unit, b.Note = float64(i0)/rc.RateHz, rc.RateHz, cal.VolumeUnit(), why+" Band sum weighted by its posture's QDC weight, unfiltered."
+	k := 0
 	for i := i0; i < i1; i++ {
-		b.Samples = append(b.Samples, rw*rc.Samples[i]+aw*ab.Samples[i])
+		t := float64(i) / fs
+		for k+1 < len(runs) && t >= runs[k].End {
+			k++
+		}
+		w := weights[k]
+		b.Samples = append(b.Samples, w[0]*rc.Samples[i]+w[1]*ab.Samples[i])
 	}
 	for _, br := range res.Breaths {
 		b.Peaks = append(b.Peaks, br.EndInsp)

@@ -288,8 +288,9 @@ func inAny(t float64, iv []DayInterval) (DayInterval, bool) {
 }
 
 // dayBreaths lays out the breaths: rate and depth follow the kinetics with
-// 8 % breath-to-breath variability (Tobin et al. report 20 % CV of rate at
-// rest over 15 min; 8 % keeps the exercise trend readable, a demo choice),
+// breath-to-breath variability of 8 % in the period (Tobin et al. report a
+// 20 % CV of rate at rest over 15 min; 8 % keeps the exercise trend
+// readable, a demo choice) and 10 % in the depth, a varying rib-cage share,
 // an occasional sigh at rest and in sleep, and during each apnea obstructed
 // efforts at the same rate followed by two recovery breaths of double depth.
 func dayBreaths(k dayKinetics, apneas []DayInterval, dur float64, rng *rand.Rand) []DayBreath {
@@ -308,6 +309,10 @@ func dayBreaths(k dayKinetics, apneas []DayInterval, dur float64, rng *rand.Rand
 		if k.posture[int(t)] != DayUpright {
 			rib = 0.3 // lying: breathing shifts toward the abdomen (common practice)
 		}
+		// Natural breathing shifts between rib cage and abdomen from breath
+		// to breath (the premise of QDC, Sackner et al. 1989); SD 0.05 as
+		// the breathing simulator's default.
+		rib = math.Max(0.05, math.Min(0.95, rib+0.05*rng.NormFloat64()))
 		b := DayBreath{OnsetS: t, PeakS: t + duty*ttot, EndS: t + ttot, TidalL: vt, RibFrac: rib}
 		if a, ok := inAny(t, apneas); ok {
 			// Effort against the closed airway: half the scheduled volume
