@@ -225,3 +225,57 @@ func TestWriteNonFinite(t *testing.T) {
 		t.Error("NaN written into the document")
 	}
 }
+
+// postureRuns: one run per posture, unknown epochs absorbed, runs shorter
+// than the 5-min QDC span merged into the run before them (or after, at the
+// start), one run for the whole record without posture.
+func TestPostureRuns(t *testing.T) {
+	mk := func(post ...string) *Analysis {
+		a := &Analysis{Input: &Input{}}
+		for i, p := range post {
+			a.Input.Activity.TimeS = append(a.Input.Activity.TimeS, 60*float64(i))
+			a.Input.Activity.Posture = append(a.Input.Activity.Posture, p)
+		}
+		return a
+	}
+	rep := func(p string, n int) []string {
+		var out []string
+		for range n {
+			out = append(out, p)
+		}
+		return out
+	}
+	cat := func(parts ...[]string) []string {
+		var out []string
+		for _, p := range parts {
+			out = append(out, p...)
+		}
+		return out
+	}
+	for _, c := range []struct {
+		name string
+		post []string
+		end  float64
+		want []Span
+	}{
+		{"none", nil, 600, []Span{{0, 600, ""}}},
+		{"one posture", rep("upright", 10), 600, []Span{{0, 600, "upright"}}},
+		{"two postures", cat(rep("upright", 10), rep("supine", 10)), 1200, []Span{{0, 600, "upright"}, {600, 1200, "supine"}}},
+		{"short middle run merged back", cat(rep("upright", 10), rep("left", 2), rep("supine", 10)), 1320,
+			[]Span{{0, 720, "upright"}, {720, 1320, "supine"}}},
+		{"short first run merged forward", cat(rep("left", 2), rep("supine", 10)), 720, []Span{{0, 720, "supine"}}},
+		{"unknown absorbed", cat(rep("upright", 5), rep("", 3), rep("upright", 5)), 780, []Span{{0, 780, "upright"}}},
+	} {
+		got := mk(c.post...).postureRuns(c.end)
+		if len(got) != len(c.want) {
+			t.Errorf("%s: runs %v, want %v", c.name, got, c.want)
+			continue
+		}
+		for i := range got {
+			if got[i] != c.want[i] {
+				t.Errorf("%s: runs %v, want %v", c.name, got, c.want)
+				break
+			}
+		}
+	}
+}
