@@ -14,15 +14,16 @@ import (
 // step candidate is undecided (at most MinRun step intervals), so memory is
 // bounded by that plus one window. It is not safe for concurrent use.
 type Stream struct {
-	p      *processor
-	ws     *window.Stream[Sample]
-	opts   Options
-	rate   float64
-	pushed int // samples handed to the window stream
-	ready  []Epoch
-	steps  []float64
-	closed bool
-	err    error
+	p        *processor
+	ws       *window.Stream[struct{}]
+	opts     Options
+	rate     float64
+	pushed   int // samples handed to the window stream
+	keepFrom int // Lo of the last released window: samples before it are dead
+	ready    []Epoch
+	steps    []float64
+	closed   bool
+	err      error
 }
 
 // NewStream starts a stream whose first sample is at origin (UTC), sampled
@@ -36,7 +37,7 @@ func NewStream(origin time.Time, spec window.Spec, rateHz float64, opts Options)
 	if err != nil {
 		return nil, err
 	}
-	ws, err := window.NewSampleStream[Sample](g, rateHz, 0)
+	ws, err := window.NewSampleStream[struct{}](g, rateHz, 0)
 	if err != nil {
 		return nil, err
 	}
@@ -54,7 +55,7 @@ func (s *Stream) Push(x, y, z []float64) error {
 	if err := s.p.push(x, y, z); err != nil {
 		return err
 	}
-	return s.release(s.p.releasable())
+	return s.release(max(s.p.releasable(), s.pushed))
 }
 
 // Close ends the stream; the last, partial windows become ready.
@@ -84,10 +85,14 @@ func (s *Stream) fail(err error) error {
 }
 
 // release hands samples below global index upto to the window stream,
-// declaring runs of invalid samples as gaps first.
+// declaring runs of invalid samples as gaps first. The engine is given
+// zero-size placeholders: it needs only their count to lay out windows and
+// coverage, and the samples themselves stay in the processor's buffer, which
+// Summarize reads through each window's Lo and Hi (one copy fewer per sample
+// than handing the samples over).
 func (s *Stream) release(upto int) error {
 	p := s.p
-	out := p.out[:upto-p.outBase]
+	out := p.out[s.pushed-p.outBase : upto-p.outBase]
 	for i := 0; i < len(out); {
 		j := i
 		if out[i].Flags&FlagInvalid != 0 {
@@ -103,27 +108,32 @@ func (s *Stream) release(upto int) error {
 				j++
 			}
 		}
-		if err := s.ws.Push(out[i:j]...); err != nil {
+		if err := s.ws.Push(make([]struct{}, j-i)...); err != nil {
 			return s.fail(err)
 		}
 		i = j
 	}
-	s.pushed += len(out)
-	// Keep only the undecided tail, moved to the front of our buffer (the
-	// window stream copied what it was given, so nothing aliases it).
-	p.out = p.out[:copy(p.out, p.out[len(out):])]
-	p.outBase = upto
+	s.pushed = upto
 	for _, i := range p.steps {
 		s.steps = append(s.steps, sampleTime(s.rate, i))
 	}
 	p.steps = p.steps[:0]
 	s.collect()
+	// Samples before the last released window's start can never be read
+	// again (later windows start no earlier); drop them once they are at
+	// least half the buffer, so the cost stays amortised O(1) per sample.
+	if dead := s.keepFrom - p.outBase; dead > 0 && 2*dead >= len(p.out) {
+		p.out = p.out[:copy(p.out, p.out[dead:])]
+		p.outBase = s.keepFrom
+	}
 	return nil
 }
 
 func (s *Stream) collect() {
-	for w, items := range s.ws.Ready() {
-		s.ready = append(s.ready, Summarize(w, items, s.rate, s.opts))
+	p := s.p
+	for w := range s.ws.Ready() {
+		s.ready = append(s.ready, Summarize(w, p.out[w.Lo-p.outBase:w.Hi-p.outBase], s.rate, s.opts))
+		s.keepFrom = w.Lo
 	}
 }
 
