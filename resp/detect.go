@@ -366,10 +366,12 @@ func (c *core) step(rib, abd float64) {
 
 	switch c.state {
 	case stInit:
-		if m > c.m[c.iHi&c.mask] {
+		// The running extremes restart when they would leave the buffer (a
+		// long flat stretch), so they never read overwritten samples.
+		if m > c.m[c.iHi&c.mask] || n-c.iHi > c.cap/2 {
 			c.iHi = n
 		}
-		if m < c.m[c.iLo&c.mask] {
+		if m < c.m[c.iLo&c.mask] || n-c.iLo > c.cap/2 {
 			c.iLo = n
 		}
 		if c.quietFrom >= 0 && n-c.quietFrom >= c.spanN {

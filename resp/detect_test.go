@@ -310,3 +310,39 @@ func TestIrregularShallowSighsPauses(t *testing.T) {
 		}
 	}
 }
+
+func TestLongFlatThenBreathing(t *testing.T) {
+	// Five minutes of a flat sum (longer than the 120 s buffer) before and
+	// between breathing: detection starts cleanly after each (no stale
+	// buffer reads), the flat time is reported as pause excursions, and the
+	// breaths are all found (construction, derived).
+	fs := 10.0
+	var rib, abd []float64
+	flat := func(s float64) {
+		for i := 0; i < int(s*fs); i++ {
+			rib, abd = append(rib, 0.001*math.Sin(float64(i))), append(abd, 0)
+		}
+	}
+	breathe := func(n int) {
+		r, a := halfCosine(fs, 1.6, 2.4, 1, n)
+		rib, abd = append(rib, r...), append(abd, a...)
+	}
+	flat(300)
+	breathe(20)
+	flat(300)
+	breathe(20)
+	r, err := resp.Detect(rib, abd, resp.Options{RateHz: fs})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Breaths) < 36 || len(r.Breaths) > 40 {
+		t.Errorf("%d breaths, want 38-40 of the 40 drawn", len(r.Breaths))
+	}
+	var quiet float64
+	for _, p := range r.Pauses {
+		quiet += p.End - p.Start
+	}
+	if quiet < 250 {
+		t.Errorf("%.0f s of pause excursions, want most of the 300 s flat stretch between the breathing", quiet)
+	}
+}
