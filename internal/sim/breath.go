@@ -160,7 +160,7 @@ func (r *BreathRecording) TrueWeights(t float64) (rib, abd float64) {
 // DurationS is the recording length in seconds.
 func (r *BreathRecording) DurationS() float64 { return float64(len(r.Rib)) / r.RateHz }
 
-func resolveSegments(in []BreathSegment) ([]BreathSegment, error) {
+func breathResolve(in []BreathSegment) ([]BreathSegment, error) {
 	if len(in) == 0 {
 		return nil, fmt.Errorf("sim: breath schedule is empty")
 	}
@@ -207,7 +207,7 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 	if !(cfg.RateHz >= 1 && cfg.RateHz <= 2000) {
 		return nil, fmt.Errorf("sim: breath sampling rate %v Hz", cfg.RateHz)
 	}
-	segs, err := resolveSegments(cfg.Segments)
+	segs, err := breathResolve(cfg.Segments)
 	if err != nil {
 		return nil, err
 	}
@@ -232,12 +232,12 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 			continue
 		}
 		for t < end-1e-9 {
-			ttot := 60 / s.RatePerMin * math.Exp(s.RateCV*clampN(rng))
-			vt := s.TidalL * math.Exp(s.TidalCV*clampN(rng))
-			duty := s.TiTtot * (1 + 0.05*clampN(rng))
+			ttot := 60 / s.RatePerMin * math.Exp(s.RateCV*breathNorm(rng))
+			vt := s.TidalL * math.Exp(s.TidalCV*breathNorm(rng))
+			duty := s.TiTtot * (1 + 0.05*breathNorm(rng))
 			share := s.RibShare
 			if s.RibShareSD > 0 {
-				share = math.Max(0.05, math.Min(0.95, share+s.RibShareSD*clampN(rng)))
+				share = math.Max(0.05, math.Min(0.95, share+s.RibShareSD*breathNorm(rng)))
 			}
 			c := BreathCycle{OnsetS: t, RibShare: share, RibGain: s.RibGain, AbdGain: s.AbdGain}
 			sigh := false
@@ -308,16 +308,16 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 		}
 	}
 	rec.Rib, rec.Abd = BreathRender(rec.Cycles, n, cfg, rng)
-	addMotion(rec, cfg, rng)
+	breathAddMotion(rec, cfg, rng)
 	if cfg.SpO2 {
-		rec.SpO2 = breathSpO2(rec.Events, t2s(n, cfg.RateHz), rng)
+		rec.SpO2 = breathSpO2(rec.Events, breathSeconds(n, cfg.RateHz), rng)
 	}
 	return rec, nil
 }
 
-func t2s(n int, fs float64) float64 { return float64(n) / fs }
+func breathSeconds(n int, fs float64) float64 { return float64(n) / fs }
 
-func clampN(rng *rand.Rand) float64 { return math.Max(-2.5, math.Min(2.5, rng.NormFloat64())) }
+func breathNorm(rng *rand.Rand) float64 { return math.Max(-2.5, math.Min(2.5, rng.NormFloat64())) }
 
 // BreathRender renders cycles into n samples of each band at cfg.RateHz,
 // with cfg's drift, noise and cardiogenic oscillation (rng drives the noise;
@@ -378,9 +378,9 @@ func BreathRender(cycles []BreathCycle, n int, cfg BreathConfig, rng *rand.Rand)
 	return rib, abd
 }
 
-// addMotion adds each burst: a band-limited wobble (1-5 Hz components) of
+// breathAddMotion adds each burst: a band-limited wobble (1-5 Hz components) of
 // about a litre-equivalent on both bands plus a slow shift of the baseline.
-func addMotion(rec *BreathRecording, cfg BreathConfig, rng *rand.Rand) {
+func breathAddMotion(rec *BreathRecording, cfg BreathConfig, rng *rand.Rand) {
 	fs := cfg.RateHz
 	for _, m := range rec.Motion {
 		var f, a, p [4]float64
