@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
+	"github.com/tidalbeat/tidalbeat/internal/refdata"
 	"github.com/tidalbeat/tidalbeat/internal/sim"
 )
 
@@ -143,5 +144,26 @@ func TestQualityRecord100Windows(t *testing.T) {
 	t.Logf("record 100, %d windows of 10 s: median kurtosis %.2f, bSQI %.3f, pSQI %.3f", len(kurt), mk, mb, mp)
 	if mk < 5 || mb < 0.95 || mp < 0.4 || mp > 0.9 {
 		t.Errorf("median kurtosis %.2f (want > 5), bSQI %.3f (want >= 0.95), pSQI %.3f (want 0.4..0.9)", mk, mb, mp)
+	}
+}
+
+func TestQualityMomentsAgainstScipy(t *testing.T) {
+	// kSQI and sSQI are the (biased, non-excess) sample kurtosis and
+	// skewness: scipy.stats.kurtosis(fisher=False) and scipy.stats.skew
+	// (reference library: Debian python3-scipy).
+	s, _ := sim.ECGSimulate(sim.ECGConfig{RateHz: 250, DurationS: 10, MeanHR: 80, NoisemV: 0.05, Seed: 12})
+	var want struct{ K, S float64 }
+	refdata.Scipy(t, `
+import json, sys
+from scipy import stats
+x = json.load(sys.stdin)
+print(json.dumps({"K": float(stats.kurtosis(x, fisher=False)), "S": float(stats.skew(x))}))
+`, s.Samples, &want)
+	q, err := ecg.WindowQuality(s.Samples, 250, nil, ecg.QualityOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(q.Kurtosis-want.K) > 1e-9*want.K || math.Abs(q.Skewness-want.S) > 1e-9*math.Max(1, math.Abs(want.S)) {
+		t.Errorf("kurtosis %.12g skewness %.12g, scipy %.12g %.12g", q.Kurtosis, q.Skewness, want.K, want.S)
 	}
 }
