@@ -105,3 +105,5 @@ func rowsEqual(t testing.TB, want, got []Row) {
 		t.Fatalf("stream rows differ from batch rows (-batch +stream):\n%s", d)
 	}
 }
+
+func secs(s float64) time.Duration { return time.Duration(s * float64(time.Second)) }
