@@ -215,10 +215,6 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 	rec := &BreathRecording{RateHz: cfg.RateHz, Segments: segs}
 	t := 0.0
 	recovery := 0
-	var total float64
-	for _, s := range segs {
-		total += s.DurationS
-	}
 	for si, s := range segs {
 		rec.SegmentStart = append(rec.SegmentStart, t)
 		end := t + s.DurationS
@@ -287,7 +283,6 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 	}
 	n := int(math.Round(t * cfg.RateHz))
 	// Motion bursts.
-	t = 0
 	for si, s := range segs {
 		if s.MotionPerMin > 0 {
 			for u := rec.SegmentStart[si]; u < rec.SegmentStart[si]+s.DurationS; u += 1 {
