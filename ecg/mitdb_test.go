@@ -93,6 +93,11 @@ func TestRecord100(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	if len(res.Gaps) != 0 {
+		// Record 100 is continuous and unclipped (MIT-BIH directory): its
+		// quantised isoelectric stretches must not pass for flat lines.
+		t.Errorf("gaps %v on record 100, want none", res.Gaps)
+	}
 	s, err := ecg.MatchBeats(refTimes(ref, rate100), beatTimes(res.Beats), 0)
 	if err != nil {
 		t.Fatal(err)
