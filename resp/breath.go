@@ -73,7 +73,10 @@ type Breath struct {
 	EndInsp float64 // end of inspiration, the peak of the sum (s)
 	EndExp  float64 // end of expiration (s); equals the next onset unless a pause follows
 	// PauseS is the expiratory pause between EndExp and the next breath's
-	// onset (s): zero when the trough is shorter than Options.PauseMinS.
+	// onset (s): zero unless the trough stays flat for longer than
+	// Options.PauseMinS and half the recent breath length. The pause time
+	// itself is described by Result.Pauses. Rates per window count it
+	// (60 * breaths / sum of TtotS + PauseS); RatePerMin does not.
 	PauseS float64
 
 	TiS        float64 // inspiratory time EndInsp-Onset (s)
