@@ -118,3 +118,41 @@ func ExamplePhaseLissajous() {
 	fmt.Printf("Lissajous %.0f deg, cross-correlation %.0f deg\n", lis, xc)
 	// Output: Lissajous 150 deg, cross-correlation 150 deg
 }
+
+func ExampleEDR() {
+	// R-peak amplitudes (mV) of a heart at 70 beats/min whose QRS grows and
+	// shrinks with breathing at 12 breaths/min.
+	var times, amp []float64
+	for t := 0.5; t < 180; t += 60.0 / 70 {
+		times = append(times, t)
+		amp = append(amp, 1.2+0.1*math.Sin(2*math.Pi*0.2*t))
+	}
+	r, err := resp.EDR(times, amp, resp.EDROptions{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("ECG-derived breathing rate %.1f/min from %d beats\n", r.RatePerMin, r.Beats)
+	// Output: ECG-derived breathing rate 12.0/min from 210 beats
+}
+
+func ExampleCalibrateAbsolute() {
+	// Five breaths into a 0.8 L calibration bag: the band rises of each
+	// (Breath.RibRise, AbdRise) and the bag volume. With fewer than
+	// MinTwoWeightRefs breaths the QDC ratio K is kept and one factor fitted.
+	refs := []resp.Reference{
+		{RibRise: 0.50, AbdRise: 0.52, VolumeL: 0.8},
+		{RibRise: 0.42, AbdRise: 0.61, VolumeL: 0.8},
+		{RibRise: 0.58, AbdRise: 0.43, VolumeL: 0.8},
+		{RibRise: 0.47, AbdRise: 0.55, VolumeL: 0.8},
+		{RibRise: 0.53, AbdRise: 0.49, VolumeL: 0.8},
+	}
+	cal, err := resp.CalibrateAbsolute(1.1, refs)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("%s: %.3f L per rib unit, %.3f L per abdominal unit, residual %.3f L, volumes in %s\n",
+		cal.Method, cal.RibWeight, cal.AbdWeight, cal.ResidualL, cal.VolumeUnit())
+	// Output: qdc+volume: 0.822 L per rib unit, 0.748 L per abdominal unit, residual 0.002 L, volumes in L
+}
