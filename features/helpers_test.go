@@ -72,7 +72,10 @@ func streamRows(t testing.TB, rec *recording.Recording, cfg Config, rng *rand.Ra
 			break
 		}
 		c := rec.Channels[ch]
-		n := 1 + rng.IntN(int(maxChunkS*c.RateHz)+1)
+		n := len(c.Samples) // whole channel at once when rng is nil
+		if rng != nil {
+			n = 1 + rng.IntN(int(maxChunkS*c.RateHz)+1)
+		}
 		end := min(pos[ch]+n, len(c.Samples))
 		// Declared gaps go in before the samples they cover.
 		for gi[ch] < len(c.Gaps) && c.Gaps[gi[ch]].Start < float64(end)/c.RateHz {
