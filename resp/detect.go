@@ -152,6 +152,8 @@ type core struct {
 	tis, tes     []float64
 	medTi, medTe float64 // recent median Ti, Te (s); 1.5 and 2.5 before any breath
 	medTtot      float64
+	maxTi        int     // longest plausible inspiration (samples)
+	delayS       float64 // time without a breath before the reference decays (s)
 	recentPos    int
 	ref          float64 // median of amps
 	refRib       float64
@@ -229,6 +231,7 @@ func newCore(opt Options) (*core, error) {
 	c.pauseMinN = int(math.Round(o.PauseMinS * o.RateHz))
 	c.minBreathN = int(math.Round(o.MinBreathS * o.RateHz))
 	c.medTi, c.medTe, c.medTtot = 1.5, 2.5, 4
+	c.timing()
 	c.amps = make([]float64, 0, nRecent)
 	c.ribs = make([]float64, 0, nRecent)
 	c.abds = make([]float64, 0, nRecent)
@@ -284,7 +287,7 @@ func (c *core) reference() float64 {
 
 // decayDelay is how long without a clean breath before the reference
 // decays: two recent breath lengths, at least 8 s (our choice).
-func (c *core) decayDelay() float64 { return math.Max(8, 2*c.medTtot) }
+func (c *core) decayDelay() float64 { return c.delayS }
 
 func (c *core) step(rib, abd float64) {
 	if !(math.Abs(rib) <= maxSample) || !(math.Abs(abd) <= maxSample) {
@@ -484,8 +487,12 @@ func (c *core) onsetAt(from int, tol float64) (int, float64) {
 // maxTiN is the longest plausible inspiration in samples: three times the
 // recent median Ti, at least 5 s (our choice; a sigh's inspiration is about
 // twice the usual), and never more than the buffer.
-func (c *core) maxTiN() int {
-	return min(c.cap-2, int(math.Max(5, 3*c.medTi)*c.fs))
+func (c *core) maxTiN() int { return c.maxTi }
+
+// timing refreshes the limits derived from the recent median timing.
+func (c *core) timing() {
+	c.maxTi = min(c.cap-2, int(math.Max(5, 3*c.medTi)*c.fs))
+	c.delayS = math.Max(8, 2*c.medTtot)
 }
 
 // rise handles the switch from expiration to inspiration at sample c.n.
@@ -693,6 +700,7 @@ func (c *core) remember(vt, rib, abd, ti, te float64) {
 	c.medTi = medianInto(buf[:0], c.tis)
 	c.medTe = medianInto(buf[:0], c.tes)
 	c.medTtot = c.medTi + c.medTe
+	c.timing()
 }
 
 func medianInto(buf, x []float64) float64 {
