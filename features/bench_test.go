@@ -114,9 +114,19 @@ func benchExtract(b *testing.B, cfg Config) {
 // the hours pushed), and the mean cost of a Push (push_us: the latency a
 // caller sees after a window closes is at most one Push, plus the families'
 // decision delays documented on Stream).
-func BenchmarkStreamDay(b *testing.B) {
+func BenchmarkStreamDay(b *testing.B) { benchStream(b, 86400) }
+
+// BenchmarkStreamHour is BenchmarkStreamDay over the first hour; its
+// row_lag_s metrics (seconds of data pushed after a row's time before the
+// row is released) show the latency of the slowest family.
+func BenchmarkStreamHour(b *testing.B) { benchStream(b, 3600) }
+
+func benchStream(b *testing.B, dur int) {
 	rec := dayRecording(b)
-	n := totalSamples(rec)
+	n := 0
+	for _, c := range rec.Channels {
+		n += int(float64(dur) * c.RateHz)
+	}
 	var ms runtime.MemStats
 	runtime.GC()
 	runtime.ReadMemStats(&ms)
@@ -124,12 +134,14 @@ func BenchmarkStreamDay(b *testing.B) {
 	b.ResetTimer()
 	var maxHeap, firstHeap uint64
 	pushes := 0
+	var lagSum, lagMax float64
+	lagN := 0
 	for range b.N {
 		s, err := NewStream(rec, Config{})
 		if err != nil {
 			b.Fatal(err)
 		}
-		for sec := 0; sec < 86400; sec++ {
+		for sec := 0; sec < dur; sec++ {
 			for ci, c := range rec.Channels {
 				lo, hi := int(float64(sec)*c.RateHz), int(float64(sec+1)*c.RateHz)
 				if err := s.Push(ci, c.Samples[lo:min(hi, len(c.Samples))]); err != nil {
@@ -137,7 +149,11 @@ func BenchmarkStreamDay(b *testing.B) {
 				}
 				pushes++
 			}
-			for range s.Ready() {
+			for r := range s.Ready() {
+				lag := float64(sec+1) - r.Offset
+				lagSum += lag
+				lagMax = max(lagMax, lag)
+				lagN++
 			}
 			if sec%3600 == 3599 {
 				b.StopTimer()
@@ -159,6 +175,8 @@ func BenchmarkStreamDay(b *testing.B) {
 	b.ReportMetric(float64(maxHeap)/(1<<20), "max_heap_MB")
 	b.ReportMetric(float64(firstHeap)/(1<<20), "hour1_heap_MB")
 	b.ReportMetric(b.Elapsed().Seconds()*1e6/float64(pushes), "push_us")
+	b.ReportMetric(lagSum/float64(max(lagN, 1)), "mean_row_lag_s")
+	b.ReportMetric(lagMax, "max_row_lag_s")
 }
 
 // samplePeak records the largest heap in use (including the recording
