@@ -231,3 +231,35 @@ func TestMITDBDirectory(t *testing.T) {
 		t.Errorf("gross Se %.4f +P %.4f, want both >= 0.995", sum.GrossSe, sum.GrossPP)
 	}
 }
+
+func TestRecord100StreamEqualsBatch(t *testing.T) {
+	// The property of TestStreamEqualsBatch on real data: record 100 in
+	// chunks of 1, 7, 360 and 100000 samples gives the batch beats exactly.
+	x, _, _ := record100(t)
+	x = x[:120*rate100] // two minutes keep the one-sample chunking quick
+	batch, err := ecg.Detect(x, rate100, ecg.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, n := range []int{1, 7, 360, 100000} {
+		d, _ := ecg.NewDetector(rate100, ecg.Options{})
+		var got []ecg.Beat
+		for p := 0; p < len(x); p += n {
+			b, _ := d.Push(x[p:min(p+n, len(x))])
+			got = append(got, b...)
+		}
+		b, _ := d.Flush()
+		got = append(got, b...)
+		if len(got) != len(batch.Beats) {
+			t.Fatalf("chunk %d: %d beats, batch %d", n, len(got), len(batch.Beats))
+		}
+		for i := range got {
+			if got[i] != batch.Beats[i] {
+				t.Fatalf("chunk %d: beat %d %+v, batch %+v", n, i, got[i], batch.Beats[i])
+			}
+		}
+	}
+	if len(batch.Beats) < 140 { // about 75 beats/min over 2 min in record 100
+		t.Fatalf("only %d beats in 2 min", len(batch.Beats))
+	}
+}
