@@ -18,7 +18,8 @@ const (
 	// Lipponen and Tarvainen 2019 (the default).
 	NNTimeVarying NNMethod = iota
 	// NNPercent removes an interval that differs from the reference interval
-	// by more than PercentLimit (the simple percentage rule).
+	// by more than PercentLimit (the simple percentage rule). The first
+	// interval of each gap-free run is the initial reference and is kept.
 	NNPercent
 	// NNLimitsOnly applies only the physiological limits.
 	NNLimitsOnly
