@@ -8,7 +8,8 @@
 //
 // Data flow: band samples (both at one rate, 10-500 Hz) -> Detect or Stream
 // (one core: identical breaths for any chunking) -> Result (breaths, pause
-// excursions, gaps) -> DetectEvents -> Summarize per window.
+// excursions, gaps) -> DetectEvents or EventStream (one core again) ->
+// Summarize per window.
 //
 // Volumes. Without calibration the bands are summed with equal weights and
 // every volume is in arbitrary units (fields and columns named AU / _au).

@@ -189,65 +189,192 @@ type span struct {
 //
 // These are candidates: see Event.
 func DetectEvents(r Result, opt EventOptions) ([]Event, error) {
+	c, err := newEventCore(opt)
+	if err != nil {
+		return nil, err
+	}
+	for _, s := range timeline(r) {
+		c.push(s)
+	}
+	c.close()
+	return c.out, nil
+}
+
+// EventStream is the streaming driver of event detection: push the breaths
+// and pause excursions drained from a Stream, in time order, and collect the
+// events as they are decided. It feeds the same core as DetectEvents, so the
+// events are identical for any chunking. An event is decided once the
+// breathing after it has recovered (three usable breaths, or RecoveryS after
+// it); memory is bounded by BaselineS of breaths plus the open event.
+type EventStream struct {
+	c      *eventCore
+	last   float64
+	closed bool
+}
+
+// NewEventStream returns an event stream with the given options.
+func NewEventStream(opt EventOptions) (*EventStream, error) {
+	c, err := newEventCore(opt)
+	if err != nil {
+		return nil, err
+	}
+	return &EventStream{c: c, last: math.Inf(-1)}, nil
+}
+
+// Push adds breaths and pause excursions, which must not start before
+// anything pushed earlier (Stream.Drain output in drain order satisfies
+// this).
+func (e *EventStream) Push(breaths []Breath, pauses []Excursion) error {
+	if e.closed {
+		return ErrClosed
+	}
+	tl := timeline(Result{Breaths: breaths, Pauses: pauses})
+	for _, s := range tl {
+		if s.start < e.last || !finite(s.start) {
+			return fmt.Errorf("resp: event stream: span at %v s after one at %v s: %w", s.start, e.last, ErrInput)
+		}
+		e.last = s.start
+		e.c.push(s)
+	}
+	return nil
+}
+
+// Close ends the stream, deciding the events still waiting for recovery.
+func (e *EventStream) Close() error {
+	if e.closed {
+		return ErrClosed
+	}
+	e.closed = true
+	e.c.close()
+	return nil
+}
+
+// Drain returns the events decided since the last Drain, appended to dst.
+func (e *EventStream) Drain(dst []Event) []Event {
+	dst = append(dst, e.c.out...)
+	e.c.out = e.c.out[:0]
+	return dst
+}
+
+// eventCore is the one implementation behind DetectEvents and EventStream:
+// spans arrive in time order; each is judged against the baseline of the
+// stable breaths before it, runs of reduced spans are collected, and a run
+// is scored once the breathing after it shows whether it recovered.
+type eventCore struct {
+	o       EventOptions
+	base    *baseline
+	inRun   bool
+	run     []span
+	runBase float64
+	runBand float64
+	lastEnd float64
+	pend    []pendingRun
+	out     []Event
+}
+
+// pendingRun is a closed run waiting for its recovery verdict: the usable
+// breaths among the spans from the one that closed it, while they start
+// within RecoveryS of it, up to three.
+type pendingRun struct {
+	run        []span
+	base, band float64
+	from       float64
+	ex         []float64
+	done, ok   bool
+}
+
+func newEventCore(opt EventOptions) (*eventCore, error) {
 	o, err := opt.withDefaults()
 	if err != nil {
 		return nil, err
 	}
-	tl := timeline(r)
-	var out []Event
-	base := newBaseline(o.BaselineS)
-	reduced := make([]bool, len(tl))
-	bases := make([]float64, len(tl))
-	bandBases := make([]float64, len(tl))
-	for i, s := range tl {
-		b, bb, nb := base.at(s.start)
-		bases[i], bandBases[i] = b, bb
-		if !s.unusable && nb >= o.MinBaselineBreaths && s.exc <= (1-o.HypopneaDrop)*b {
-			reduced[i] = true
-		}
-		if s.breath >= 0 && !s.unusable && !reduced[i] {
-			base.add(s.start, s.exc, math.Max(s.rib, s.abd))
-		}
-	}
-	for i := 0; i < len(tl); {
-		if !reduced[i] {
-			i++
-			continue
-		}
-		j := i + 1
-		for j < len(tl) && reduced[j] && tl[j].start-tl[j-1].end < 0.5 {
-			j++
-		}
-		if !recovers(tl, j, bases[i], o) {
-			i = j
-			continue
-		}
-		if ev, ok := scoreRun(tl[i:j], bases[i], bandBases[i], o); ok {
-			out = append(out, ev)
-		}
-		i = j
-	}
-	return out, nil
+	return &eventCore{o: o, base: newBaseline(o.BaselineS)}, nil
 }
 
-// recovers reports whether the breathing after the run ending before tl[j]
-// comes back to RecoveryFrac of the baseline.
-func recovers(tl []span, j int, base float64, o EventOptions) bool {
-	if j >= len(tl) {
-		return false
+func (p *pendingRun) offer(s span, o EventOptions) {
+	if p.done {
+		return
 	}
-	end := tl[j].start
-	var ex []float64
-	for k := j; k < len(tl) && len(ex) < 3 && tl[k].start < end+o.RecoveryS; k++ {
-		if tl[k].breath >= 0 && !tl[k].unusable {
-			ex = append(ex, tl[k].exc)
+	if s.start >= p.from+o.RecoveryS {
+		p.decide(o)
+		return
+	}
+	if s.breath >= 0 && !s.unusable {
+		p.ex = append(p.ex, s.exc)
+		if len(p.ex) == 3 {
+			p.decide(o)
 		}
 	}
-	if len(ex) == 0 {
-		return false
+}
+
+// decide: the run recovered when the median of the collected breaths
+// reaches RecoveryFrac of its baseline; no breath at all means it did not.
+func (p *pendingRun) decide(o EventOptions) {
+	p.done = true
+	if len(p.ex) == 0 {
+		return
 	}
-	sort.Float64s(ex)
-	return mid(ex) >= o.RecoveryFrac*base
+	sort.Float64s(p.ex)
+	p.ok = mid(p.ex) >= o.RecoveryFrac*p.base
+}
+
+func (c *eventCore) push(s span) {
+	o := c.o
+	b, bb, nb := c.base.at(s.start)
+	red := !s.unusable && nb >= o.MinBaselineBreaths && s.exc <= (1-o.HypopneaDrop)*b
+	if s.breath >= 0 && !s.unusable && !red {
+		c.base.add(s.start, s.exc, math.Max(s.rib, s.abd))
+	}
+	for i := range c.pend {
+		c.pend[i].offer(s, o)
+	}
+	if c.inRun {
+		if red && s.start-c.lastEnd < 0.5 {
+			c.run = append(c.run, s)
+			c.lastEnd = s.end
+			c.emit()
+			return
+		}
+		// s closes the run: its recovery is judged from s on.
+		p := pendingRun{run: c.run, base: c.runBase, band: c.runBand, from: s.start}
+		p.offer(s, o)
+		c.pend = append(c.pend, p)
+		c.inRun, c.run = false, nil
+	}
+	if red {
+		c.inRun, c.run = true, []span{s}
+		c.runBase, c.runBand, c.lastEnd = b, bb, s.end
+	}
+	c.emit()
+}
+
+// close ends the data: a run still open never recovered within the data and
+// is dropped; pending runs are decided on what they collected.
+func (c *eventCore) close() {
+	c.inRun, c.run = false, nil
+	for i := range c.pend {
+		if !c.pend[i].done {
+			c.pend[i].decide(c.o)
+		}
+	}
+	c.emit()
+}
+
+// emit scores the decided runs at the head of the queue, in order.
+func (c *eventCore) emit() {
+	k := 0
+	for k < len(c.pend) && c.pend[k].done {
+		p := c.pend[k]
+		if p.ok {
+			if ev, ok := scoreRun(p.run, p.base, p.band, c.o); ok {
+				c.out = append(c.out, ev)
+			}
+		}
+		k++
+	}
+	if k > 0 {
+		c.pend = append(c.pend[:0], c.pend[k:]...)
+	}
 }
 
 func timeline(r Result) []span {
@@ -305,6 +432,13 @@ func (b *baseline) at(t float64) (float64, float64, int) {
 		b.sortV = removeSorted(b.sortV, b.v[b.lo])
 		b.sortBd = removeSorted(b.sortBd, b.band[b.lo])
 		b.lo++
+	}
+	if b.lo > 1024 && 2*b.lo > len(b.t) {
+		// Forget breaths that left the span, so memory stays bounded.
+		b.t = append(b.t[:0], b.t[b.lo:]...)
+		b.v = append(b.v[:0], b.v[b.lo:]...)
+		b.band = append(b.band[:0], b.band[b.lo:]...)
+		b.lo = 0
 	}
 	n := len(b.t) - b.lo
 	if n == 0 {

@@ -2,7 +2,11 @@ package resp_test
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
+
+	"github.com/google/go-cmp/cmp"
+	"github.com/google/go-cmp/cmp/cmpopts"
 
 	"github.com/tidalbeat/tidalbeat/internal/sim"
 	"github.com/tidalbeat/tidalbeat/resp"
@@ -208,5 +212,60 @@ func TestApneaMeanDropAllowance(t *testing.T) {
 		if len(ev) != 1 || ev[0].Kind != c.want {
 			t.Errorf("pieces %v, %v: events %+v, want one %v", c.a, c.b, ev, c.want)
 		}
+	}
+}
+
+func TestEventStreamMatchesBatch(t *testing.T) {
+	// House rule: the event stream feeds the same core as DetectEvents; fed
+	// by a band stream in random chunks it gives the same events.
+	rec, err := sim.BreathSimulate(sim.BreathConfig{RateHz: 25, Seed: 8, Segments: sleepSchedule(), SpO2: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := resp.Options{RateHz: 25, Calibration: resp.Calibration{RibWeight: 1 / 1.4, AbdWeight: 1}}
+	eo := resp.EventOptions{SpO2: rec.SpO2, SpO2RateHz: 1}
+	r, err := resp.Detect(rec.Rib, rec.Abd, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := resp.DetectEvents(r, eo)
+	if err != nil || len(want) < 10 {
+		t.Fatalf("batch: %d events, %v", len(want), err)
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	for trial := 0; trial < 5; trial++ {
+		s, _ := resp.NewStream(opt)
+		es, err := resp.NewEventStream(eo)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got []resp.Event
+		var bs []resp.Breath
+		var ps []resp.Excursion
+		for i := 0; i < len(rec.Rib); {
+			j := min(len(rec.Rib), i+1+rng.IntN(3000))
+			_ = s.Push(rec.Rib[i:j], rec.Abd[i:j])
+			bs, ps, _ = s.Drain(bs[:0], ps[:0], nil)
+			if err := es.Push(bs, ps); err != nil {
+				t.Fatal(err)
+			}
+			got = es.Drain(got)
+			i = j
+		}
+		_ = s.Close()
+		bs, ps, _ = s.Drain(bs[:0], ps[:0], nil)
+		if err := es.Push(bs, ps); err != nil {
+			t.Fatal(err)
+		}
+		_ = es.Close()
+		got = es.Drain(got)
+		if d := cmp.Diff(want, got, cmpopts.EquateNaNs()); d != "" {
+			t.Fatalf("trial %d: streamed events differ (-batch +stream):\n%s", trial, d)
+		}
+	}
+	es, _ := resp.NewEventStream(resp.EventOptions{})
+	_ = es.Push(r.Breaths[5:6], nil)
+	if err := es.Push(r.Breaths[:1], nil); err == nil {
+		t.Error("out-of-order push accepted")
 	}
 }
