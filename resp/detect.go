@@ -20,8 +20,12 @@ import (
 // low-passed bands is the volume signal on which peaks and troughs are
 // located and volumes measured; copies of the bands are also high-passed
 // (order-1 Butterworth, Options.HighpassHz, 0.05 Hz) to remove drift for the
-// phase angles. Motion is the band sum's energy above the low-pass band.
-// Reported times are corrected for the low-pass delay at low
+// phase angles. Motion above the low-pass band is filtered out; motion
+// inside the breathing band cannot be told from breathing without a
+// reference, so it is detected (the sum's energy above the low-pass band,
+// implausibly large excursions, or caller-supplied Options.Motion spans)
+// and flagged per breath, and flagged breaths are left out of the window
+// features and of event baselines rather than "corrected". Reported times are corrected for the low-pass delay at low
 // frequency (sqrt(2)/(2*pi*fc) for order 2; 0.11 s at 2 Hz).
 //
 // Segmentation is by alternating extrema with an adaptive threshold (methods
