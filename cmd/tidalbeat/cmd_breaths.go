@@ -154,11 +154,13 @@ func writeBreathCSV(path string, stdout io.Writer, breaths []resp.Breath) (err e
 	if err := cw.Write(breathColumns); err != nil {
 		return err
 	}
+	// Values to 6 significant digits (far below the method's accuracy);
+	// NaN (undefined, e.g. a phase of a flat band) as an empty cell.
 	num := func(v float64) string {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return ""
 		}
-		return strconv.FormatFloat(v, 'f', -1, 64)
+		return strconv.FormatFloat(v, 'g', 6, 64)
 	}
 	t := func(v float64) string { return strconv.FormatFloat(math.Round(v*1e4)/1e4, 'f', -1, 64) }
 	b01 := func(v bool) string {
