@@ -97,6 +97,9 @@ type BreathConfig struct {
 	// SpO2 adds a 1 Hz oxygen-saturation channel (percent) that desaturates
 	// after apneas and hypopneas.
 	SpO2 bool
+	// RibOff and AbdOff are spans (s) in which that band is lost: its
+	// samples are NaN, as a reader delivers a disconnected band.
+	RibOff, AbdOff []BreathSpan
 }
 
 // BreathCycle is one breath (or breathing effort) to render.
@@ -304,6 +307,16 @@ func BreathSimulate(cfg BreathConfig) (*BreathRecording, error) {
 	}
 	rec.Rib, rec.Abd = BreathRender(rec.Cycles, n, cfg, rng)
 	breathAddMotion(rec, cfg, rng)
+	for _, off := range []struct {
+		x  []float64
+		sp []BreathSpan
+	}{{rec.Rib, cfg.RibOff}, {rec.Abd, cfg.AbdOff}} {
+		for _, sp := range off.sp {
+			for i := max(0, int(sp.Start*cfg.RateHz)); i < min(len(off.x), int(sp.End*cfg.RateHz)); i++ {
+				off.x[i] = math.NaN()
+			}
+		}
+	}
 	if cfg.SpO2 {
 		rec.SpO2 = breathSpO2(rec.Events, breathSeconds(n, cfg.RateHz), rng)
 	}

@@ -155,3 +155,16 @@ func TestBreathBadConfig(t *testing.T) {
 		}
 	}
 }
+
+func TestBreathBandOff(t *testing.T) {
+	rec, err := BreathSimulate(BreathConfig{RateHz: 10, Seed: 1, Segments: BreathQuiet(60), RibOff: []BreathSpan{{Start: 20, End: 25}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < len(rec.Rib); i++ {
+		off := i >= 200 && i < 250
+		if math.IsNaN(rec.Rib[i]) != off || math.IsNaN(rec.Abd[i]) {
+			t.Fatalf("sample %d: rib %v abd %v (rib off 20-25 s only)", i, rec.Rib[i], rec.Abd[i])
+		}
+	}
+}
