@@ -284,6 +284,7 @@ func TestQuietBreathingTradeFacts(t *testing.T) {
 		t.Fatalf("%d valid windows of %d", len(vt), len(ws))
 	}
 	med := func(x []float64) float64 { sort.Float64s(x); return x[len(x)/2] }
+	t.Logf("quiet breathing, %d windows: median vt_l %.3f, rate %.2f/min, ve_l_min %.2f", len(vt), med(vt), med(rate), med(ve))
 	if v := med(vt); math.Abs(v-0.5) > 0.05 {
 		t.Errorf("median tidal volume %.3f L, want about 0.5 L (common practice)", v)
 	}
@@ -328,6 +329,7 @@ func TestExerciseVentilation(t *testing.T) {
 		t.Fatalf("%d valid windows inside hard repeats", len(hard))
 	}
 	sort.Float64s(hard)
+	t.Logf("hard repeats: %d windows, median ve_l_min %.1f (range %.1f-%.1f)", len(hard), hard[len(hard)/2], hard[0], hard[len(hard)-1])
 	if m := hard[len(hard)/2]; m < 85 || m > 115 {
 		t.Errorf("median minute ventilation in hard repeats %.1f L/min, want toward 100", m)
 	}
