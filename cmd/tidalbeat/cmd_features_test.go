@@ -260,3 +260,41 @@ func TestFeaturesOneTableAndErrors(t *testing.T) {
 		t.Errorf("stdout table: exit %d, %q", code, so.String()[:min(60, so.Len())])
 	}
 }
+
+// TestFeaturesLabelsAndRoles checks -labels (a CSV of UTC intervals) and
+// -role overrides end to end.
+func TestFeaturesLabelsAndRoles(t *testing.T) {
+	dir := t.TempDir()
+	a := filepath.Join(dir, "a.edf")
+	start := time.Date(2026, 6, 2, 9, 0, 0, 0, time.UTC)
+	writeSimEDF(t, a, start, 5)
+	lab := filepath.Join(dir, "labels.csv")
+	os.WriteFile(lab, []byte("start,end,label\n2026-06-02T09:01:00Z,2026-06-02T09:01:30Z,hill climb\n"), 0o644)
+	out := filepath.Join(dir, "t.csv")
+	var so, se bytes.Buffer
+	if code := run([]string{"features", a, "-labels", lab, "-o", out, "-role", "acc_x=unknown"}, &so, &se); code != 0 {
+		t.Fatalf("exit %d: %s", code, se.String())
+	}
+	head, rows := readFeatCSV(t, out)
+	ov, ar := featCol(head, "label_hill_climb_overlap_frac"), featCol(head, "activity_reason")
+	if ov < 0 || ar < 0 {
+		t.Fatalf("columns %v", head)
+	}
+	// Rows end at 09:00:30, 09:01:00, 09:01:30, ...: only the third
+	// covers the labelled half minute.
+	for i, r := range rows {
+		want := "0"
+		if i == 2 {
+			want = "1"
+		}
+		if r[ov] != want {
+			t.Errorf("row %d overlap %q, want %s", i, r[ov], want)
+		}
+		if r[ar] != "no acc_x channel" {
+			t.Errorf("row %d activity reason %q after -role acc_x=unknown", i, r[ar])
+		}
+	}
+	if code := run([]string{"features", a, "-labels", filepath.Join(dir, "none.csv")}, &so, &se); code != 1 {
+		t.Errorf("missing labels file: exit %d", code)
+	}
+}
