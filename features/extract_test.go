@@ -453,3 +453,21 @@ func TestEmptyRecording(t *testing.T) {
 		t.Errorf("%d rows from a recording without samples", len(tab.Rows))
 	}
 }
+
+// TestStreamEqualsBatchOtherGrid repeats the equality check on a 20-s step
+// anchored at the recording start with 2-min HRV and 40-s breathing windows.
+func TestStreamEqualsBatchOtherGrid(t *testing.T) {
+	rec, _ := hrvRecording(t, 400)
+	br, _ := breathRecording(t)
+	rec.Channels = append(rec.Channels, br.Channels...)
+	cfg := Config{Step: 20 * time.Second, Anchor: window.AnchorStart, HRVWindow: 2 * time.Minute, BreathingWindow: 40 * time.Second, ActivityWindow: 20 * time.Second}
+	want, err := Extract(rec, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want.Rows[0].Offset != 20 || countFinite(want.Float("rmssd_ms")) < 10 {
+		t.Fatalf("first row at %v s, %d RMSSD values", want.Rows[0].Offset, countFinite(want.Float("rmssd_ms")))
+	}
+	rng := rand.New(rand.NewPCG(3, 3))
+	rowsEqual(t, want.Rows, streamRows(t, rec, cfg, rng, 9))
+}

@@ -7,6 +7,7 @@ import (
 	"sort"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/tidalbeat/tidalbeat/ecg"
 	"github.com/tidalbeat/tidalbeat/features/hrv"
@@ -14,15 +15,20 @@ import (
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
-// NN cleaning runs once per row step ("block"), on the beats from
-// nnMarginSteps steps before the block to nnMarginSteps steps after it, and
-// keeps the intervals ending inside the block. Cleaning a short block in
+// NN cleaning runs once per row step ("block"), on the beats from at least
+// nnMarginS before the block to as long after it (a whole number of steps),
+// and keeps the intervals ending inside the block. Cleaning a short block in
 // its context rather than every 5-min window saves the tenfold overlap of
 // the windows, and the context lets the centred rules of ecg.CleanRR
 // (91-beat quartile deviation, 11-beat median) see both sides of every
 // interval; the result depends only on the block's context, never on how the
 // data were chunked. At the default 30-s step the context is 150 s.
-const nnMarginSteps = 2
+const nnMarginS = 60
+
+// marginSteps is the cleaning margin in steps: nnMarginS rounded up.
+func marginSteps(step time.Duration) int {
+	return max(1, int((nnMarginS*time.Second+step-1)/step))
+}
 
 // hrvCols are the HRV family's columns: its counts, then the hrv package's
 // own Columns verbatim (hrv_n_nn first).
@@ -76,13 +82,14 @@ type hrvSetup struct {
 	detected bool    // beats from the detector (cleaned) or annotations (N-N pairs)
 	length   float64 // HRV window, s
 	step     float64 // row step, s
+	margin   int     // cleaning margin, steps
 }
 
 // cleanBlock is the first per-window core: w is a window of the cleaning
-// grid (length step*(1+2*nnMarginSteps)), beats and gaps its contents. It
-// returns the items of the block [w.End-(1+m)step, w.End-m*step), sorted.
+// grid (length step*(1+2m), m = marginSteps), beats and gaps its contents.
+// It returns the items of the block [w.End-(1+m)step, w.End-m*step), sorted.
 func (h hrvSetup) cleanBlock(w window.Window, beats []beat, gaps []window.Interval) []nnItem {
-	be := w.End - nnMarginSteps*h.step
+	be := w.End - float64(h.margin)*h.step
 	bs := be - h.step
 	in := func(t float64) bool { return t >= bs && t < be }
 	var out []nnItem
@@ -195,7 +202,7 @@ func hrvReason(m hrv.Metrics) string {
 // block (cleanBlock); hrv.Compute per window (hrvCore).
 func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 	f := &family{name: FamilyHRV, length: cfg.HRVWindow, cols: hrvCols()}
-	h := hrvSetup{length: cfg.HRVWindow.Seconds(), step: cfg.Step.Seconds()}
+	h := hrvSetup{length: cfg.HRVWindow.Seconds(), step: cfg.Step.Seconds(), margin: marginSteps(cfg.Step)}
 	if cfg.BeatsAnnotator != "" {
 		var beats []beat
 		for _, a := range rec.Annotations {
@@ -270,7 +277,7 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 // cleanGrid is the grid of cleaning blocks with their context.
 func cleanGrid(cfg Config, g window.Grid) (window.Grid, error) {
 	sp := g.Spec()
-	sp.Length = cfg.Step * (1 + 2*nnMarginSteps)
+	sp.Length = cfg.Step * time.Duration(1+2*marginSteps(cfg.Step))
 	return window.NewGrid(sp, g.Origin())
 }
 
@@ -515,7 +522,7 @@ func (d *hrvDriver) blocks(ext float64) ([]famResult, error) {
 			return nil, err
 		}
 		items := d.h.cleanBlock(w, beats, gapsIn(gs, w.Start, w.End))
-		be := math.Min(w.End-nnMarginSteps*d.h.step, ext)
+		be := math.Min(w.End-float64(d.h.margin)*d.h.step, ext)
 		ii, gi := 0, 0
 		for ii < len(items) || (gi < len(d.gaps2) && d.gaps2[gi].Start < be) {
 			if gi < len(d.gaps2) && d.gaps2[gi].Start < be && (ii == len(items) || d.gaps2[gi].Start <= items[ii].t) {
