@@ -33,7 +33,8 @@
 //
 //   - hrv, 5 min (Task Force 1996): beats from ecg.Detect on the ECG channel
 //     (or the record's beat annotations, Config.BeatsAnnotator); NN cleaning
-//     by ecg.CleanRR once per step in a context of two steps on each side;
+//     by ecg.CleanRR once per step in a context of at least 60 s (whole
+//     steps) on each side;
 //     hrv.Compute per window, its Columns used verbatim (rmssd_ms, ...).
 //   - ecg_quality, one step: ecg.WindowQuality (lead-off, flat, kSQI, sSQI,
 //     pSQI, basSQI, bSQI) over the last step, present whenever beats are
@@ -75,7 +76,7 @@
 // Latency: a row is released by the Push that completes the last of its
 // windows. After the row time, activity waits for motion's undecided step
 // run (about a second), ECG quality for nothing, HRV for the detector's
-// decision delay (ecg.Detector.Latency plus 1 s) and the two-step cleaning
+// decision delay (ecg.Detector.Latency plus 1 s) and the cleaning
 // context (60 s at the default step), breathing for resp's 120-s breath
 // buffer and the 90-s event context (about 3.5 min). Each Push costs tens of
 // microseconds (BenchmarkStreamDay: push_us).
