@@ -116,21 +116,18 @@ func (f *family) breathWindow(w window.Window, in []resp.Breath, breaths []resp.
 		}
 		lo, hi := w.Start-breathLookbackS, w.End+breathLookaheadS
 		ctx := resp.Result{Calibration: cal}
-		for _, b := range breaths {
-			if b.Onset >= lo && b.Onset < hi {
-				ctx.Breaths = append(ctx.Breaths, b)
+		// The lists are in time order: search instead of scanning a day.
+		for k := sort.Search(len(breaths), func(k int) bool { return breaths[k].Onset >= lo }); k < len(breaths) && breaths[k].Onset < hi; k++ {
+			ctx.Breaths = append(ctx.Breaths, breaths[k])
+		}
+		// Pauses are at most resp.Options.ExcursionSpanS (4 s) long and in
+		// order; start the scan a minute early to catch every overlap.
+		for k := sort.Search(len(pauses), func(k int) bool { return pauses[k].Start >= lo-60 }); k < len(pauses) && pauses[k].Start < hi; k++ {
+			if pauses[k].End > lo {
+				ctx.Pauses = append(ctx.Pauses, pauses[k])
 			}
 		}
-		for _, p := range pauses {
-			if p.Start < hi && p.End > lo {
-				ctx.Pauses = append(ctx.Pauses, p)
-			}
-		}
-		for _, g := range gaps {
-			if g.Start < hi && g.End > lo {
-				ctx.Gaps = append(ctx.Gaps, g)
-			}
-		}
+		ctx.Gaps = gapsIn(gaps, lo, hi)
 		ev, err := resp.DetectEvents(ctx, resp.EventOptions{})
 		if err != nil {
 			return "events: " + err.Error()
