@@ -18,17 +18,22 @@ import (
 // same samples its rows equal Extract's exactly, whatever the chunking.
 //
 // Latency: a row is released on the Push that completes the last of its
-// families' windows. Sample families (activity, breathing) close a window as
-// soon as every channel has samples up to the row time (activity adds at
-// most the step detector's undecided run, a few step intervals); the HRV
-// family waits for the beat detector's decision delay (ecg.Detector.Latency,
-// a few seconds) after the row time. BenchmarkStream reports the cost.
+// families' windows, measured in data pushed after the row time: activity
+// waits for motion's undecided step run (about a second), ECG quality for
+// nothing, HRV for the beat detector's decision delay (ecg.Detector.Latency
+// plus 1 s) and the NN-cleaning context (60 s), breathing for resp's 120-s
+// breath buffer plus 2 s and its 90-s event context, about 212 s in all.
+// BenchmarkStreamHour reports the lag (row_lag_s) and the cost of a Push
+// (push_us, tens of microseconds). Restrict Config.Families to get activity
+// or HRV rows sooner.
 //
 // Memory: each family keeps only the samples or events of its open windows
-// (the longest is 5 min of ECG beats) plus the copies of windows waiting for
-// a slower channel of the same family; rows wait only until all families
-// reach them. Memory is therefore flat over any recording length as long as
-// every channel is pushed (push NaN for lost samples).
+// and their context (at most 5 min of ECG for quality and beats, 6 min of
+// breaths) plus the copies of windows waiting for a slower channel of the
+// same family; rows wait only until all families reach them. The heap is
+// therefore flat over any recording length (under 1 MB after a GC in
+// BenchmarkStreamDay) as long as every channel is pushed (push NaN for lost
+// samples).
 //
 // A Stream is not safe for concurrent use.
 type Stream struct {
