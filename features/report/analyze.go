@@ -417,30 +417,37 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		tr.VE, tr.VEUnit = t.Float("ve_au_min"), "AU/min"
 	}
 	// Quality strip: one row per family, one cell per row step ending at
-	// the row time. The score is the family's coverage times the share of
-	// its events that needed no correction: 1 - hrv_corrected_frac for the
-	// ECG, resp_clean_breaths_n / resp_breaths_n for the bands; the
-	// accelerometer's is its coverage. NaN (grey) when the family is absent.
-	frac := func(num, den []float64, invert bool) []float64 {
-		out := make([]float64, len(times))
-		for i := range out {
-			out[i] = 1
-			switch {
-			case invert && num != nil && isFinite(num[i]):
-				out[i] = 1 - num[i]
-			case !invert && num != nil && den != nil && den[i] > 0:
-				out[i] = num[i] / den[i]
+	// the row time. The score is the family's coverage times a share of
+	// good evidence: for the ECG signal the agreement of its two beat
+	// detectors (bSQI, Li, Mark and Clifford 2008), for HRV the share of
+	// uncorrected intervals (1 - hrv_corrected_frac), for the bands the
+	// share of clean breaths; the accelerometer's is its coverage. NaN
+	// (grey) when the family is absent.
+	// col reads a column, with ifNaN where it is empty or absent.
+	col := func(name string, ifNaN float64) func(int) float64 {
+		v := t.Float(name)
+		return func(i int) float64 {
+			if v == nil || !isFinite(v[i]) {
+				return ifNaN
 			}
+			return v[i]
 		}
-		return out
 	}
+	bsqi, corr := col("ecg_bsqi_frac", 1), col("hrv_corrected_frac", 0)
+	clean, all := t.Float("resp_clean_breaths_n"), t.Float("resp_breaths_n")
 	for _, fam := range []struct {
 		name, label string
-		clean       []float64
+		good        func(int) float64
 	}{
-		{features.FamilyHRV, QualityECG, frac(t.Float("hrv_corrected_frac"), nil, true)},
-		{features.FamilyBreathing, QualityBreathing, frac(t.Float("resp_clean_breaths_n"), t.Float("resp_breaths_n"), false)},
-		{features.FamilyActivity, QualityMotion, frac(nil, nil, false)},
+		{features.FamilyECGQuality, QualityECG, bsqi},
+		{features.FamilyHRV, QualityHRV, func(i int) float64 { return 1 - corr(i) }},
+		{features.FamilyBreathing, QualityBreathing, func(i int) float64 {
+			if clean != nil && all != nil && all[i] > 0 {
+				return clean[i] / all[i]
+			}
+			return 1
+		}},
+		{features.FamilyActivity, QualityMotion, func(int) float64 { return 1 }},
 	} {
 		cov, why := t.Float(fam.name+"_coverage_frac"), t.Strings(fam.name+"_reason")
 		if cov == nil {
@@ -451,7 +458,7 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		}
 		q := QualityRow{Family: fam.label}
 		for i, x := range times {
-			q.TimeS, q.EndS, q.Score = append(q.TimeS, x-stepS), append(q.EndS, x), append(q.Score, cov[i]*fam.clean[i])
+			q.TimeS, q.EndS, q.Score = append(q.TimeS, x-stepS), append(q.EndS, x), append(q.Score, cov[i]*fam.good(i))
 		}
 		in.Quality = append(in.Quality, q)
 	}

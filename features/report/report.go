@@ -114,7 +114,8 @@ type Activity struct {
 // Quality row names: the tachogram shades the windows of QualityECG that
 // score below 0.5.
 const (
-	QualityECG       = "ECG / HRV"
+	QualityECG       = "ECG signal"
+	QualityHRV       = "HRV"
 	QualityBreathing = "breathing"
 	QualityMotion    = "motion"
 )
