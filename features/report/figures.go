@@ -611,7 +611,7 @@ func figQuality(in *Input) (figure, error) {
 		p.Add(c)
 		p.Y.Tick.Marker = ticks
 		p.Y.Min, p.Y.Max = -0.5, float64(len(in.Quality))-0.5
-		f.Caption = fmt.Sprintf("%d windows over %d families. Score: the window's coverage by valid data times the share of its beats or breaths that needed no correction; 1 is best.", nw, len(in.Quality))
+		f.Caption = fmt.Sprintf("%d windows over %d families. Score, 1 best: the window's coverage by valid data times, for the ECG signal, the agreement of two independent beat detectors (bSQI, Li, Mark and Clifford 2008); for HRV, the share of intervals needing no correction; for breathing, the share of clean breaths.", nw, len(in.Quality))
 	}
 	f.w, f.h, f.plots = figW, vg.Length(1.2+0.45*float64(max(1, len(in.Quality))))*vg.Inch, []*plot.Plot{p}
 	return f, nil
