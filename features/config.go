@@ -66,8 +66,8 @@ type Config struct {
 	Roles map[string]recording.Role `json:"roles,omitempty"`
 	// BeatsAnnotator, when set, takes the HRV family's beats from the
 	// recording's annotations of that annotator (e.g. "atr") instead of
-	// detecting them on the ECG: the NN series joins consecutive normal
-	// beats (code "N"), and records without signals work too.
+	// detecting them on the ECG: the NN series joins consecutive sinus
+	// beats (codes N, L and R), and records without signals work too.
 	BeatsAnnotator string `json:"beats_annotator,omitempty"`
 	// NoECGQuality leaves out the ECG quality columns (ecg.WindowQuality
 	// per step), which cost about as much as beat detection and HRV

@@ -207,7 +207,7 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 		var beats []beat
 		for _, a := range rec.Annotations {
 			if a.Annotator == cfg.BeatsAnnotator && a.IsBeat() {
-				beats = append(beats, beat{t: a.Time, normal: a.Code == "N"})
+				beats = append(beats, beat{t: a.Time, normal: sinusBeat(a.Code)})
 			}
 		}
 		if len(beats) == 0 {
@@ -273,6 +273,13 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 	}
 	return f
 }
+
+// sinusBeat reports whether an annotated beat is normally conducted from
+// the sinus node and so forms NN intervals: WFDB codes N (normal) and L, R
+// (left and right bundle branch block beats, sinus beats with a slow
+// ventricular conduction). Premature, escape, paced and fusion beats are
+// not (WFDB annotation code table, from memory; common HRV practice).
+func sinusBeat(code string) bool { return code == "N" || code == "L" || code == "R" }
 
 // cleanGrid is the grid of cleaning blocks with their context.
 func cleanGrid(cfg Config, g window.Grid) (window.Grid, error) {
