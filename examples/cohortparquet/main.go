@@ -113,7 +113,11 @@ func run(dir string, paths []string, w io.Writer) error {
 		}
 		fmt.Fprintf(w, "%s: %d rows\n", part, len(t.Rows))
 	}
-	return features.WriteSidecar(dir, features.Meta{Records: recordNames(tables), Columns: cols})
+	cfg, err := features.Config{}.Resolved() // the defaults, written out in full
+	if err != nil {
+		return err
+	}
+	return features.WriteSidecar(dir, features.Meta{Config: cfg, Records: recordNames(tables), Columns: cols})
 }
 
 func recordNames(ts []*features.Table) []string {
