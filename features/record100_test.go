@@ -2,6 +2,7 @@ package features
 
 import (
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -63,5 +64,24 @@ func TestRecord100DetectedVsReference(t *testing.T) {
 	}
 	if n < 45 {
 		t.Errorf("only %d windows compared", n)
+	}
+}
+
+// TestRecord100StreamEqualsBatch streams MIT-BIH record 100 (both leads,
+// real noise and ectopic beats) in random chunks and requires the batch
+// rows exactly.
+func TestRecord100StreamEqualsBatch(t *testing.T) {
+	hea := refdata.Shared(t, "physionet/mitdb/100.hea")
+	rec, err := recording.Open(strings.TrimSuffix(hea, ".hea"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := Extract(rec, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for trial := range 2 {
+		rng := rand.New(rand.NewPCG(uint64(trial), 100))
+		rowsEqual(t, want.Rows, streamRows(t, rec, Config{}, rng, []float64{0.5, 20}[trial]))
 	}
 }
