@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"fmt"
 	"math"
 	"testing"
 )
@@ -10,7 +11,12 @@ import (
 // (the physiology in day.go's header; demo data, so the tolerances only say
 // that the generators do what their doc comments say).
 func TestDayEventsFollowSchedule(t *testing.T) {
-	tr := dayEvents(1)
+	for seed := uint64(1); seed <= 4; seed++ {
+		t.Run(fmt.Sprintf("seed %d", seed), func(t *testing.T) { checkDayEvents(t, dayEvents(seed)) })
+	}
+}
+
+func checkDayEvents(t *testing.T, tr DayTruth) {
 	if len(tr.Segments) != 5 {
 		t.Fatalf("%d segments, want 5", len(tr.Segments))
 	}
