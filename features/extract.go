@@ -7,6 +7,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/tidalbeat/tidalbeat/ecg"
 	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/window"
 )
@@ -68,9 +69,10 @@ func newPlan(rec *recording.Recording, cfg Config, withData bool) (*plan, error)
 		}
 	}
 	p := &plan{cfg: cfg, origin: originOf(rec)}
+	sh := &shared{}
 	builders := []struct {
 		name string
-		mk   func(*recording.Recording, Config, bool) *family
+		mk   func(*recording.Recording, Config, bool, *shared) *family
 	}{
 		{FamilyHRV, newHRVFamily},
 		{FamilyECGQuality, newECGQualityFamily},
@@ -81,7 +83,7 @@ func newPlan(rec *recording.Recording, cfg Config, withData bool) (*plan, error)
 		if b.name != FamilyECGQuality && !cfg.wants(b.name) {
 			continue
 		}
-		f := b.mk(rec, cfg, withData)
+		f := b.mk(rec, cfg, withData, sh)
 		if f == nil {
 			continue
 		}
@@ -245,4 +247,18 @@ func channelInput(ch *recording.Channel, role recording.Role, withData bool) inp
 		sort.Slice(in.gaps, func(i, j int) bool { return in.gaps[i].Start < in.gaps[j].Start })
 	}
 	return in
+}
+
+// shared holds batch work that several families need, done once per
+// Extract: beat detection on the ECG channel (HRV and ECG quality).
+type shared struct {
+	once sync.Once
+	res  ecg.Result
+	err  error
+}
+
+// detect returns ecg.Detect(x, rate) with default options, computed once.
+func (s *shared) detect(x []float64, rate float64) (ecg.Result, error) {
+	s.once.Do(func() { s.res, s.err = ecg.Detect(x, rate, ecg.Options{}) })
+	return s.res, s.err
 }

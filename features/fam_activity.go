@@ -32,7 +32,7 @@ var activityCols = []Column{
 // newActivityFamily builds the activity family from the three accelerometer
 // axes through the motion package (its Derive/EpochsOf batch pair and its
 // Stream, which share one core).
-func newActivityFamily(rec *recording.Recording, cfg Config, withData bool) *family {
+func newActivityFamily(rec *recording.Recording, cfg Config, withData bool, _ *shared) *family {
 	f := &family{name: FamilyActivity, length: cfg.ActivityWindow, cols: activityCols}
 	var chs []*recording.Channel
 	for _, r := range []recording.Role{recording.RoleAccX, recording.RoleAccY, recording.RoleAccZ} {

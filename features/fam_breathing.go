@@ -39,7 +39,7 @@ func breathingCols() []Column {
 // Volumes are in arbitrary units of the equally weighted band sum (no
 // calibration is applied), so the litre columns stay empty with resp's
 // reason.
-func newBreathingFamily(rec *recording.Recording, cfg Config, withData bool) *family {
+func newBreathingFamily(rec *recording.Recording, cfg Config, withData bool, _ *shared) *family {
 	f := &family{name: FamilyBreathing, length: cfg.BreathingWindow, cols: breathingCols()}
 	rc := cfg.findRole(rec, recording.RoleRibCage)
 	ab := cfg.findRole(rec, recording.RoleAbdomen)

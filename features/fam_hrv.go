@@ -200,7 +200,7 @@ func hrvReason(m hrv.Metrics) string {
 // (ecg.Detect in batch, ecg.Detector when streaming: one detector core) or
 // taken from annotations when Config.BeatsAnnotator is set; NN cleaning per
 // block (cleanBlock); hrv.Compute per window (hrvCore).
-func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
+func newHRVFamily(rec *recording.Recording, cfg Config, withData bool, sh *shared) *family {
 	f := &family{name: FamilyHRV, length: cfg.HRVWindow, cols: hrvCols()}
 	h := hrvSetup{length: cfg.HRVWindow.Seconds(), step: cfg.Step.Seconds(), margin: marginSteps(cfg.Step)}
 	if cfg.BeatsAnnotator != "" {
@@ -238,7 +238,7 @@ func newHRVFamily(rec *recording.Recording, cfg Config, withData bool) *family {
 		if len(in.x) == 0 {
 			return nil, nil
 		}
-		res, err := ecg.Detect(in.x, rate, ecg.Options{})
+		res, err := sh.detect(in.x, rate)
 		if err != nil {
 			return nil, err
 		}
