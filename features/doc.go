@@ -75,8 +75,8 @@
 //
 // Latency: a row is released by the Push that completes the last of its
 // windows. After the row time, activity waits for motion's undecided step
-// run (about a second), ECG quality for nothing, HRV for the detector's
-// decision delay (ecg.Detector.Latency plus 1 s) and the cleaning
+// run (about a second), ECG quality for the beat detector's decision delay
+// (ecg.Detector.Latency plus 1 s), HRV for that delay and the cleaning
 // context (60 s at the default step), breathing for resp's 120-s breath
 // buffer and the 90-s event context (about 3.5 min). Each Push costs tens of
 // microseconds (BenchmarkStreamDay: push_us).

@@ -20,8 +20,8 @@ import (
 // Latency: a row is released on the Push that completes the last of its
 // families' windows, measured in data pushed after the row time: activity
 // waits for motion's undecided step run (about a second), ECG quality for
-// nothing, HRV for the beat detector's decision delay (ecg.Detector.Latency
-// plus 1 s) and the NN-cleaning context (60 s), breathing for resp's 120-s
+// the beat detector's decision delay (ecg.Detector.Latency plus 1 s), HRV
+// for that delay and the NN-cleaning context (60 s), breathing for resp's 120-s
 // breath buffer plus 2 s and its 90-s event context, about 212 s in all.
 // BenchmarkStreamHour reports the lag (row_lag_s) and the cost of a Push
 // (push_us, tens of microseconds). Restrict Config.Families to get activity
