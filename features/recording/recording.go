@@ -206,7 +206,8 @@ type Annotation struct {
 
 // IsBeat reports whether the annotation marks a QRS complex: its Code is one
 // of the WFDB beat mnemonics N L R a V F J A S E j / Q B e n r f (the
-// WFDB isqrs table, PhysioNet annotation documentation, from memory).
+// WFDB beat-annotation code table, PhysioNet annotation documentation,
+// from memory).
 func (a Annotation) IsBeat() bool { return isBeatCode(a.Code) }
 
 // Channel returns the first channel with the given role.

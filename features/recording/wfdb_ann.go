@@ -35,8 +35,9 @@ var wfdbMnemonics = [annMax + 1]string{
 	31: "!", 32: "[", 33: "]", 34: "e", 35: "n", 36: "@", 37: "x", 38: "f", 39: "(", 40: ")", 41: "r",
 }
 
-// beatCodes are the mnemonics of QRS (beat) annotations: the WFDB isqrs
-// table (PhysioNet annotation documentation, from memory).
+// beatCodes are the mnemonics of QRS (beat) annotations: the WFDB
+// beat-annotation code table (PhysioNet annotation documentation, from
+// memory).
 var beatCodes = map[string]bool{
 	"N": true, "L": true, "R": true, "a": true, "V": true, "F": true, "J": true, "A": true, "S": true,
 	"E": true, "j": true, "/": true, "Q": true, "B": true, "e": true, "n": true, "r": true, "f": true,
