@@ -30,8 +30,12 @@ import (
 //
 // Timestamps that are not uniform (phone and watch exports) are resampled
 // by linear interpolation onto a uniform grid at the rate 1/median interval
-// (or CSVOptions.RateHz) starting at the first timestamp; intervals longer
-// than CSVOptions.GapFactor median intervals are gaps (NaN), never bridged.
+// (or CSVOptions.RateHz) starting at the first timestamp. Intervals longer
+// than the gap threshold are gaps (NaN), never bridged: the threshold is
+// CSVOptions.GapFactor median intervals, widened for ordinary jitter to
+// twice the 99th percentile interval (at most 10 medians; see
+// CSVOptions.JitterPercentile), and is reported in
+// ResampleReport.GapThresholdS together with the count of bridged intervals.
 // Rows repeating the previous timestamp are merged (valid values averaged,
 // the last label kept) and counted in ResampleReport.Duplicates; times that
 // go backwards are an error.
@@ -53,9 +57,31 @@ type CSVOptions struct {
 	// interval when zero.
 	RateHz float64
 	// GapFactor: an interval longer than GapFactor median intervals is a
-	// gap. 3 when zero (common practice: a few missed samples are
-	// interpolated, longer holes are not).
+	// gap, unless the jitter allowance below is larger. 3 when zero (common
+	// practice: a few missed samples are interpolated, longer holes are
+	// not).
 	GapFactor float64
+	// JitterPercentile and JitterFactor set the jitter allowance for
+	// irregular timestamps: an interval is a gap only when it exceeds
+	// max(GapFactor medians, JitterFactor times the JitterPercentile-th
+	// percentile interval), the second term never above JitterCap
+	// medians. Phones deliver samples in bursts: on the phone files of the
+	// HAR dataset (Matey-Sanz et al. 2023) the intervals have a 9-10 ms
+	// median but a 99th percentile of about 30-55 ms, so 3 medians alone
+	// leaves typically 85 % (82-98 %) of the time valid. Defaults: 99th percentile, factor
+	// 2, cap 10 medians (common practice for a robust jitter allowance;
+	// the numbers were chosen on that interval distribution, not taken
+	// from a publication). The allowance is used only with at least
+	// jitterMinIntervals (100) intervals, so that a few holes cannot set
+	// the percentile. A JitterFactor below zero turns it off (gaps at
+	// GapFactor medians only).
+	JitterPercentile float64
+	// JitterFactor multiplies the JitterPercentile-th percentile interval;
+	// 2 when zero, off when negative (see JitterPercentile).
+	JitterFactor float64
+	// JitterCap bounds the jitter allowance, in median intervals; 10 when
+	// zero (see JitterPercentile).
+	JitterCap float64
 	// Comma is the field separator; ',' when zero.
 	Comma rune
 	// Columns names the columns of a file without a header row (units in
@@ -81,8 +107,34 @@ type ResampleReport struct {
 	// MaxJitterS is the largest |interval - median| among intervals that
 	// are not gaps.
 	MaxJitterS float64 `json:"max_jitter_s"`
-	Gaps       int     `json:"gaps"`  // intervals longer than GapFactor medians, left as NaN
-	GapS       float64 `json:"gap_s"` // total time inside those gaps
+	// HighIntervalS is the CSVOptions.JitterPercentile-th percentile of
+	// the intervals (linear interpolation between order statistics).
+	HighIntervalS float64 `json:"high_percentile_interval_s"`
+	// GapThresholdS is the interval above which a hole was a gap:
+	// max(GapFactor medians, the jitter allowance); see CSVOptions.
+	GapThresholdS float64 `json:"gap_threshold_s"`
+	// Bridged counts intervals longer than GapFactor medians that the
+	// jitter allowance interpolated across instead of leaving a gap.
+	Bridged int     `json:"bridged"`
+	Gaps    int     `json:"gaps"`  // intervals longer than GapThresholdS, left as NaN
+	GapS    float64 `json:"gap_s"` // total time inside those gaps
+}
+
+// jitterMinIntervals is the fewest intervals for which the jitter allowance
+// (CSVOptions.JitterPercentile) is used: with fewer, a single hole would set
+// the high percentile.
+const jitterMinIntervals = 100
+
+// percentileSorted returns the p-th percentile (0..100) of sorted s by
+// linear interpolation between order statistics (common practice; the
+// default method of most statistics libraries).
+func percentileSorted(s []float64, p float64) float64 {
+	h := float64(len(s)-1) * p / 100
+	i := int(h)
+	if i+1 >= len(s) {
+		return s[len(s)-1]
+	}
+	return s[i] + (h-float64(i))*(s[i+1]-s[i])
 }
 
 // uniformTolerance is the relative interval deviation below which CSV
@@ -405,18 +457,40 @@ func csvGrid(times []float64, opt CSVOptions, force bool) (csvGridSpec, *Resampl
 	if gf == 0 {
 		gf = 3
 	}
+	jp, jf, jc := opt.JitterPercentile, opt.JitterFactor, opt.JitterCap
+	if jp == 0 {
+		jp = 99
+	}
+	if jf == 0 {
+		jf = 2
+	}
+	if jc == 0 {
+		jc = 10
+	}
+	if !(gf > 0) || !(jp > 0 && jp <= 100) || !(jc > 0) || math.IsNaN(jf) || math.IsInf(gf+jf+jc, 0) {
+		return csvGridSpec{}, nil, nil, fmt.Errorf("gap rule: GapFactor %v, JitterPercentile %v, JitterFactor %v, JitterCap %v: %w", opt.GapFactor, opt.JitterPercentile, opt.JitterFactor, opt.JitterCap, ErrHeader)
+	}
 	rep := &ResampleReport{Method: "linear interpolation onto a uniform grid", RateHz: rate, SourceSamples: n, MedianS: med, MinS: s[0], MaxS: s[len(s)-1]}
+	rep.HighIntervalS = percentileSorted(s, jp)
+	thr := gf * med
+	if jf > 0 && len(d) >= jitterMinIntervals {
+		thr = math.Max(thr, math.Min(jf*rep.HighIntervalS, jc*med))
+	}
+	rep.GapThresholdS = thr
 	gaps := make([]bool, n-1)
 	var sum, sum2 float64
 	for i, x := range d {
 		sum += x
-		if x > gf*med {
+		if x > thr {
 			gaps[i] = true
 			rep.Gaps++
 			rep.GapS += x
-		} else {
-			rep.MaxJitterS = math.Max(rep.MaxJitterS, math.Abs(x-med))
+			continue
 		}
+		if x > gf*med {
+			rep.Bridged++
+		}
+		rep.MaxJitterS = math.Max(rep.MaxJitterS, math.Abs(x-med))
 	}
 	rep.MeanS = sum / float64(len(d))
 	for _, x := range d {
