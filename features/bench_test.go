@@ -92,6 +92,7 @@ func benchExtract(b *testing.B, cfg Config) {
 	peak := make(chan uint64)
 	go samplePeak(stop, peak)
 	b.ResetTimer()
+	cpu0 := cpuSeconds()
 	rows := 0
 	for range b.N {
 		t, err := Extract(rec, cfg)
@@ -101,6 +102,7 @@ func benchExtract(b *testing.B, cfg Config) {
 		rows = len(t.Rows)
 	}
 	b.StopTimer()
+	b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu_s/day")
 	close(stop)
 	b.ReportMetric(float64(<-peak)/(1<<20), "peak_heap_MB")
 	b.ReportMetric(float64(n)*float64(b.N)/b.Elapsed().Seconds(), "samples/s")
