@@ -172,21 +172,16 @@ func (d *qualityDriver) release(t float64) []famResult {
 		d.last = h.w.Seq
 	}
 	d.held = d.held[k:]
-	// Beats before the next window's first sample are no longer needed.
-	from := float64(d.n) / d.rate
+	// Beats before the first sample of the oldest window still to come are
+	// no longer needed: that is a held window, or one not released yet,
+	// which starts less than a window length before the data end.
+	from := float64(d.n)/d.rate - d.f.length.Seconds()
 	if len(d.held) > 0 {
-		from = float64(d.held[0].w.Lo) / d.rate
-	} else if next, _ := d.nextStart(); next < from {
-		from = next
+		from = math.Min(from, float64(d.held[0].w.Lo)/d.rate)
 	}
 	j := sort.SearchFloat64s(d.beats, from)
 	d.beats = append(d.beats[:0], d.beats[j:]...)
 	return out
-}
-
-// nextStart is the start (s) of the window after the last released one.
-func (d *qualityDriver) nextStart() (float64, bool) {
-	return float64(d.n)/d.rate - d.f.length.Seconds(), true
 }
 
 func (d *qualityDriver) close() ([]famResult, error) {
