@@ -260,7 +260,9 @@ type core struct {
 	opt Options
 	ch  chain
 
-	cs, bs []sec // conditioning and band-pass sections with their state
+	cs, bs []sec     // conditioning and band-pass sections with their state
+	fused  bool      // the chain has the shape of runFused
+	fc     fusedCoef // its coefficients
 	// blkC and blkF hold one block of conditioned and band-passed samples.
 	blkC, blkF []float64
 
@@ -360,6 +362,16 @@ func (c *core) init(fs float64, o Options) error {
 	}
 	c.fs, c.opt, c.ch = fs, o, ch
 	c.cs, c.bs = secsOf(ch.cond), secsOf(ch.band)
+	c.fused = fusedShape(c.cs, c.bs)
+	if c.fused {
+		p, q, r, u, w := c.cs[0], c.cs[1], c.cs[2], c.bs[0], c.bs[1]
+		c.fc = fusedCoef{pb0: p.b0, pa1: p.a1, pa2: p.a2,
+			qb0: q.b0, qb1: q.b1, qa1: q.a1, qa2: q.a2,
+			rb0: r.b0, rb1: r.b1, ra1: r.a1, ra2: r.a2,
+			ub0: u.b0, ua1: u.a1, ua2: u.a2,
+			wb0: w.b0, wa1: w.a1, wa2: w.a2,
+			k8: fs / 8}
+	}
 	c.blkC, c.blkF = make([]float64, blockN), make([]float64, blockN)
 	c.flatN = max(2, int(math.Round(o.FlatS*fs)))
 	c.pend = make([]float64, 0, c.flatN+4096)
@@ -367,6 +379,7 @@ func (c *core) init(fs float64, o Options) error {
 	c.clipSet = o.ClipHighmV > o.ClipLowmV
 	c.intN = max(1, int(math.Round(o.IntegrationS*fs)))
 	c.invIntN = 1 / float64(c.intN)
+	c.fc.inv, c.fc.intN = c.invIntN, c.intN
 	c.refN = max(1, int(math.Round(o.RefractoryS*fs)))
 	c.twN = int(math.Round(o.TWaveS * fs))
 	c.learnN = max(1, int(math.Round(o.LearningS*fs)))
@@ -651,6 +664,10 @@ func filter3(p, q, r *sec, x []float64) {
 // run is the Pan-Tompkins pipeline over valid samples of the current
 // segment, in blocks of at most blockN samples.
 func (c *core) run(x []float64) {
+	if c.fused {
+		c.runFused(x)
+		return
+	}
 	for len(x) > 0 {
 		k := min(len(x), len(c.blkC))
 		c.runBlock(x[:k])

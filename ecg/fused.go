@@ -1,0 +1,189 @@
+package ecg
+
+import "math"
+
+// The fused pipeline: for the default chain shape (a Butterworth high-pass
+// and two notches for conditioning, a Butterworth high-pass and low-pass for
+// the detection band) one loop runs the five biquads, the derivative, the
+// squaring, the moving-window integrator and the peak logic per sample, with
+// every filter state in a local variable and the ring buffers written
+// directly (no intermediate block arrays).
+//
+// The sections' coefficient symmetries are used to save multiplications
+// without changing a single bit of the result: a Butterworth section has
+// b2 == b0 and b1 == -2 b0 (high-pass) or b1 == 2 b0 (low-pass) exactly as
+// designed, and a notch has b2 == b0, so b2*v is b0*v and b1*v is
+// +/-(b0*v + b0*v), products that IEEE 754 arithmetic gives bit for bit
+// (doubling is exact). fusedShape checks the symmetries on the actual
+// coefficients; any other chain takes the general block path.
+
+// fusedShape reports whether cs and bs have the shape runFused handles.
+func fusedShape(cs, bs []sec) bool {
+	if len(cs) != 3 || len(bs) != 2 {
+		return false
+	}
+	hp := func(s sec) bool { return s.b2 == s.b0 && s.b1 == -2*s.b0 }
+	lp := func(s sec) bool { return s.b2 == s.b0 && s.b1 == 2*s.b0 }
+	sym := func(s sec) bool { return s.b2 == s.b0 }
+	return hp(cs[0]) && sym(cs[1]) && sym(cs[2]) && hp(bs[0]) && lp(bs[1])
+}
+
+// fusedState is the per-sample state of the fused loop: the five biquad
+// states, the last four band-passed samples, the last two integrator
+// samples and the integrator sum.
+type fusedState struct {
+	pz0, pz1, qz0, qz1, rz0, rz1, uz0, uz1, wz0, wz1 float64
+	f1, f2, f3, f4, m1, m2, sum                      float64
+}
+
+// fusedCoef holds the coefficients runFused uses, with k8 = fs/8 (derivative
+// scale) and inv = 1/intN.
+type fusedCoef struct {
+	pb0, pa1, pa2      float64
+	qb0, qb1, qa1, qa2 float64
+	rb0, rb1, ra1, ra2 float64
+	ub0, ua1, ua2      float64
+	wb0, wa1, wa2      float64
+	k8, inv            float64
+	intN               int
+}
+
+// runFused is runBlock for the fused chain shape, bit for bit the same
+// numbers as the block path (filter32 followed by the detection loop). The
+// call-free inner loop (fusedLoop) runs until a sample needs the decision
+// logic: during learning, at a local maximum of the integrator, or when a
+// pending peak or a search-back is due. That sample is finished here.
+func (c *core) runFused(x []float64) {
+	var st fusedState
+	p, q, r, u, w := &c.cs[0], &c.cs[1], &c.cs[2], &c.bs[0], &c.bs[1]
+	st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1 = p.z0, p.z1, q.z0, q.z1, r.z0, r.z1
+	st.uz0, st.uz1, st.wz0, st.wz1 = u.z0, u.z1, w.z0, w.z1
+	st.f1, st.f2, st.f3, st.f4 = c.f1, c.f2, c.f3, c.f4
+	st.m1, st.m2, st.sum = c.m1, c.m2, c.sum
+	cf := &c.fc
+	seg2 := c.seg + 2
+	for len(x) > 0 {
+		due := min(c.pendDue, c.sbDue)
+		if !c.learned {
+			due = c.n
+		}
+		k, mv := fusedLoop(&st, cf, x, c.cbuf, c.fbuf, c.dbuf, c.mask, c.n, due)
+		c.n += k
+		x = x[k:]
+		if mv < 0 {
+			continue // x exhausted without an event
+		}
+		// The decision logic for sample n (its filters have run).
+		n := c.n - 1
+		if !c.learned {
+			c.learnStep(n, mv, c.fbuf[n&c.mask])
+		}
+		if n >= c.pendDue {
+			c.finalize(c.pk, c.pv)
+			c.pending = false
+			c.pendDue = math.MaxInt
+		}
+		m1, m2 := st.m1, st.m2
+		if m1 > m2 && m1 >= mv && n >= seg2 {
+			if !c.pending {
+				c.pending, c.pk, c.pv = true, n-1, m1
+				c.pendDue = n - 1 + c.refN + 2
+			} else if m1 > c.pv {
+				c.pk, c.pv = n-1, m1
+				c.pendDue = n - 1 + c.refN + 2
+			}
+		}
+		st.m2, st.m1 = m1, mv
+		if n >= c.sbDue {
+			c.searchBack(n)
+		}
+	}
+	p.z0, p.z1, q.z0, q.z1, r.z0, r.z1 = st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1
+	u.z0, u.z1, w.z0, w.z1 = st.uz0, st.uz1, st.wz0, st.wz1
+	c.f1, c.f2, c.f3, c.f4 = st.f1, st.f2, st.f3, st.f4
+	c.m1, c.m2, c.sum = st.m1, st.m2, st.sum
+}
+
+// fusedLoop runs the filters, derivative, squaring and integrator over x
+// for samples n, n+1, ... It stops after the first sample that needs the
+// decision logic (index >= due, or a local maximum of the integrator at the
+// previous sample) and returns the number of samples consumed and that
+// sample's integrator value, with st.m1 and st.m2 not yet shifted; or
+// len(x) and -1 when no sample needed it. It makes no calls, so the states
+// stay in registers.
+func fusedLoop(st *fusedState, cf *fusedCoef, x, cbuf, fbuf, dbuf []float64, m, n, due int) (int, float64) {
+	pz0, pz1, qz0, qz1, rz0, rz1 := st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1
+	uz0, uz1, wz0, wz1 := st.uz0, st.uz1, st.wz0, st.wz1
+	f1, f2, f3, f4 := st.f1, st.f2, st.f3, st.f4
+	m1, m2, sum := st.m1, st.m2, st.sum
+	cbuf, fbuf, dbuf = cbuf[:m+1], fbuf[:m+1], dbuf[:m+1]
+	intN := cf.intN
+	k, ev := len(x), -1.0
+	for j, v := range x {
+		// Baseline high-pass (b1 = -2 b0, b2 = b0).
+		pv := cf.pb0 * v
+		y1 := pv + pz0
+		pz0 = pz1 - (pv + pv + cf.pa1*y1)
+		pz1 = pv - cf.pa2*y1
+		// Notches (b2 = b0).
+		qv := cf.qb0 * y1
+		y2 := qv + qz0
+		qz0 = cf.qb1*y1 - cf.qa1*y2 + qz1
+		qz1 = qv - cf.qa2*y2
+		rv := cf.rb0 * y2
+		cv := rv + rz0
+		rz0 = cf.rb1*y2 - cf.ra1*cv + rz1
+		rz1 = rv - cf.ra2*cv
+		// Detection band: high-pass then low-pass (b1 = 2 b0, b2 = b0).
+		uv := cf.ub0 * cv
+		y4 := uv + uz0
+		uz0 = uz1 - (uv + uv + cf.ua1*y4)
+		uz1 = uv - cf.ua2*y4
+		wv := cf.wb0 * y4
+		fv := wv + wz0
+		wz0 = wv + wv - cf.wa1*fv + wz1
+		wz1 = wv - cf.wa2*fv
+
+		// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise
+		// 12.14); samples before the segment start count as zero.
+		dv := (2*fv + f1 - f3 - 2*f4) * cf.k8
+		f4, f3, f2, f1 = f3, f2, f1, fv
+		old := dbuf[(n-intN)&m]
+		sum += dv*dv - old*old
+		if sum < 0 {
+			sum = 0
+		}
+		i := n & m
+		cbuf[i], fbuf[i], dbuf[i] = cv, fv, dv
+		mv := sum * cf.inv
+		if n >= due || (m1 > m2 && m1 >= mv) {
+			k, ev = j+1, mv
+			break
+		}
+		m2, m1 = m1, mv
+		n++
+	}
+	st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1 = pz0, pz1, qz0, qz1, rz0, rz1
+	st.uz0, st.uz1, st.wz0, st.wz1 = uz0, uz1, wz0, wz1
+	st.f1, st.f2, st.f3, st.f4 = f1, f2, f3, f4
+	st.m1, st.m2, st.sum = m1, m2, sum
+	return k, ev
+}
+
+// learnStep accumulates the learning-phase statistics for sample n and ends
+// the learning phase when it is complete.
+func (c *core) learnStep(n int, mv, fv float64) {
+	if mv > c.lmaxM {
+		c.lmaxM = mv
+	}
+	c.lsumM += mv
+	af := math.Abs(fv)
+	if af > c.lmaxF {
+		c.lmaxF = af
+	}
+	c.lsumF += af
+	if n-c.seg+1 >= c.learnN {
+		c.n = n + 1
+		c.finishLearning()
+	}
+}
