@@ -21,7 +21,33 @@ import (
 // sample time. One column holds the time: seconds from the recording
 // start (a unit in the header such as "time[ms]" scales it: ns, us, ms, s,
 // min), seconds since the Unix epoch (CSVOptions.EpochTime), or ISO-8601 /
-// RFC 3339 timestamps (UTC when they carry no offset). Every other column is
+// RFC 3339 timestamps (UTC when they carry no offset).
+//
+// A numeric time column without a declared unit (neither in the header nor
+// in CSVOptions.Units) has its unit inferred from the magnitude of its first
+// and last values when that is unambiguous: Unix epoch times for dates
+// 2000..2100 fall in distinct ranges in seconds (9.5e8..4.1e9), milliseconds
+// (9.5e11..4.1e12), microseconds (9.5e14..4.1e15) and nanoseconds
+// (9.5e17..4.1e18), and set the recording start; values below 9.5e8 are
+// seconds from the start. A declared unit with values that are, in seconds,
+// dates 2000..2100 makes them epoch times. Every inference is reported in
+// Recording.Warnings (wrapping ErrInferred) and, for resampled files, in
+// ResampleReport.TimeUnit/TimeEpoch/TimeInferred; values fitting none of the
+// ranges are read as seconds with a warning. A declared unit, EpochTime or
+// RelativeTime always wins.
+//
+// Clocks since boot are not epoch times but can fall in these ranges (41
+// minutes of uptime in nanoseconds is 2.5e12, an epoch millisecond in 2047):
+// declare them. Phone step-counter exports, with no header and
+// "timestamp (ns since boot), acc x, y, z, ..." columns, read with
+//
+//	CSVOptions{Columns: []string{"t[ns]", "x[m/s2]", "y[m/s2]", "z[m/s2]", ...}, RelativeTime: true}
+//
+// plus Options.Start for the wall-clock time of the first row when known.
+// A first row made only of numbers is taken as a missing header (an error
+// asking for CSVOptions.Columns), never silently as column names.
+//
+// Every other column is
 // a channel whose header may carry its unit in brackets or parentheses,
 // "acc_x[m/s2]" or "acc_x (m/s2)". A column whose first value is not a number
 // is a label column: each change of label becomes an annotation lasting until
@@ -50,9 +76,16 @@ type CSVOptions struct {
 	// Units sets units by column name, overriding units in the header
 	// (for the time column too, e.g. {"timestamp": "ms"}).
 	Units map[string]string
-	// EpochTime says numeric times are seconds (scaled by the header unit)
-	// since 1970-01-01T00:00:00Z, which fixes the start.
+	// EpochTime says numeric times count from 1970-01-01T00:00:00Z (in
+	// the declared unit; inferred from the magnitude when none is
+	// declared, see ReadCSV), which fixes the start.
 	EpochTime bool
+	// RelativeTime says numeric times count from an arbitrary origin, such
+	// as a clock since boot: they are never taken as Unix epoch times, a
+	// time column without a unit is in seconds, and Options.Start (the
+	// start argument of ReadCSV), when given, is the time of the first row.
+	// It may not be combined with EpochTime.
+	RelativeTime bool
 	// RateHz is the resampling rate for irregular timestamps; 1/median
 	// interval when zero.
 	RateHz float64
@@ -104,6 +137,14 @@ type ResampleReport struct {
 	SDS           float64 `json:"sd_interval_s"` // standard deviation of the intervals (jitter)
 	MinS          float64 `json:"min_interval_s"`
 	MaxS          float64 `json:"max_interval_s"`
+	// TimeUnit is the unit the time column was read in ("s", "ms", "us",
+	// "ns", "min"; "iso-8601" for timestamps), TimeEpoch whether numeric
+	// times were Unix epoch times, and TimeInferred whether either was
+	// inferred from the magnitude of the values rather than declared (a
+	// warning in Recording.Warnings says so too).
+	TimeUnit     string `json:"time_unit"`
+	TimeEpoch    bool   `json:"time_unix_epoch"`
+	TimeInferred bool   `json:"time_inferred"`
 	// MaxJitterS is the largest |interval - median| among intervals that
 	// are not gaps.
 	MaxJitterS float64 `json:"max_jitter_s"`
@@ -200,6 +241,19 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 			return nil, fmt.Errorf("csv %s: header row: %v: %w", name, err, ErrHeader)
 		}
 		head = append(head, h...)
+		numeric := true
+		for _, c := range head {
+			if _, err := strconv.ParseFloat(strings.TrimSpace(c), 64); err != nil {
+				numeric = false
+				break
+			}
+		}
+		if numeric {
+			return nil, fmt.Errorf("csv %s: first row %q is all numbers, not a header: name the columns of a file without a header row in CSVOptions.Columns: %w", name, strings.Join(head, ","), ErrHeader)
+		}
+	}
+	if opt.EpochTime && opt.RelativeTime {
+		return nil, fmt.Errorf("csv %s: options EpochTime and RelativeTime both set: %w", name, ErrHeader)
 	}
 	if len(head) < 2 {
 		return nil, fmt.Errorf("csv %s: header has %d column(s), need a time column and a channel: %w", name, len(head), ErrHeader)
@@ -237,6 +291,7 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 	if v, ok := opt.Units[names[tc]]; ok {
 		units[tc] = v
 	}
+	unitGiven := units[tc] != ""
 	scale := 1.0
 	switch strings.ToLower(units[tc]) {
 	case "", "s", "sec":
@@ -351,13 +406,26 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 	}
 	rec := &Recording{Format: "csv"}
 	t0 := times[0]
+	tb := timeBasis{unit: "iso-8601"}
+	if absolute == nil {
+		tb = decideTimeBasis(names[tc], t0, times[len(times)-1], unitGiven, units[tc], scale, opt)
+		scale = tb.scale
+	}
 	switch {
 	case absolute != nil:
 		rec.Start, rec.StartKnown = absolute.UTC(), true
-	case opt.EpochTime:
+	case tb.epoch:
 		rec.Start, rec.StartKnown = time.Unix(0, 0).UTC().Add(scaledDuration(t0, scale)), true
+		if tb.note != "" {
+			tb.note += "; start " + rec.Start.Format(time.RFC3339Nano)
+		}
+	case opt.RelativeTime && !start.IsZero():
+		rec.Start = start.UTC()
 	case !start.IsZero():
 		rec.Start = start.UTC().Add(scaledDuration(t0, scale))
+	}
+	if tb.note != "" {
+		rec.Warnings = append(rec.Warnings, fmt.Errorf("csv %s: time column %q: %s: %w", name, head[tc], tb.note, ErrInferred))
 	}
 	for i := range times {
 		times[i] = (times[i] - t0) * scale
@@ -369,6 +437,7 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 	if rep != nil {
 		rep.SourceSamples += dups
 		rep.Duplicates = dups
+		rep.TimeUnit, rep.TimeEpoch, rep.TimeInferred = tb.unit, tb.epoch, tb.inferred
 	}
 	rec.Resample = rep
 	for i := range head {
@@ -394,6 +463,62 @@ func ReadCSV(r io.Reader, name string, opt CSVOptions, start time.Time) (*Record
 	}
 	sortAnnotations(rec.Annotations)
 	return rec, nil
+}
+
+// Unix epoch times, in seconds, of 2000-01-01 and 2100-01-01 UTC: the range
+// in which numeric times are recognised as epoch times by magnitude.
+const (
+	epochLoS = 946684800
+	epochHiS = 4102444800
+)
+
+// timeBasis is how a numeric time column is read.
+type timeBasis struct {
+	scale    float64 // seconds per unit
+	unit     string
+	epoch    bool // Unix epoch times (they fix the start)
+	inferred bool // unit or epoch-ness inferred from the magnitude
+	note     string
+}
+
+// decideTimeBasis reads a numeric time column whose first and last raw
+// values are first and last (see ReadCSV for the rules). unit and scale are
+// the declared unit and its scale (scale 1 when none was declared); col is
+// the column name, for the warning.
+func decideTimeBasis(col string, first, last float64, unitGiven bool, unit string, scale float64, opt CSVOptions) timeBasis {
+	inEpoch := func(sc float64) bool {
+		return first*sc >= epochLoS && first*sc < epochHiS && last*sc >= epochLoS && last*sc < epochHiS
+	}
+	switch {
+	case opt.RelativeTime:
+		if !unitGiven {
+			unit = "s"
+		}
+		return timeBasis{scale: scale, unit: unit}
+	case unitGiven:
+		tb := timeBasis{scale: scale, unit: unit, epoch: opt.EpochTime}
+		if !opt.EpochTime && inEpoch(scale) {
+			tb.epoch, tb.inferred = true, true
+			tb.note = fmt.Sprintf("values %.15g..%.15g %s are, by magnitude, Unix epoch times (dates 2000..2100), so they set the start; set CSVOptions.RelativeTime if they count from another origin", first, last, unit)
+		}
+		return tb
+	}
+	for _, u := range []struct {
+		name  string
+		scale float64
+		word  string
+	}{{"s", 1, "seconds"}, {"ms", 1e-3, "milliseconds"}, {"us", 1e-6, "microseconds"}, {"ns", 1e-9, "nanoseconds"}} {
+		if inEpoch(u.scale) {
+			return timeBasis{scale: u.scale, unit: u.name, epoch: true, inferred: true,
+				note: fmt.Sprintf("no unit declared; values %.15g..%.15g read as Unix epoch %s (the only unit giving dates 2000..2100); declare the unit (e.g. \"%s[%s]\") or set CSVOptions.RelativeTime for a clock since boot", first, last, u.word, col, u.name)}
+		}
+	}
+	tb := timeBasis{scale: 1, unit: "s", epoch: opt.EpochTime}
+	if math.Max(math.Abs(first), math.Abs(last)) >= epochLoS {
+		tb.inferred = true
+		tb.note = fmt.Sprintf("no unit declared; values %.15g..%.15g fit no Unix epoch unit for dates 2000..2100 and are too large for seconds from the start; read as seconds: declare the unit", first, last)
+	}
+	return tb
 }
 
 // scaledDuration returns v units of scale seconds, exactly for whole

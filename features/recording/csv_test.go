@@ -448,3 +448,158 @@ func TestCSVFrequentHolesStayGaps(t *testing.T) {
 		t.Errorf("want %d gaps at a 0.1 s threshold: report %+v, %d channel gaps", holes, r, len(rec.Channels[0].Gaps))
 	}
 }
+
+// epochCSV writes a uniform 100 Hz two-column CSV whose first time is first
+// (in units of scale seconds), under the given time header.
+func epochCSV(head string, first int64, step int64, n int) string {
+	var b strings.Builder
+	b.WriteString(head + ",x\n")
+	for i := 0; i < n; i++ {
+		b.WriteString(strconv.FormatInt(first+int64(i)*step, 10) + "," + strconv.Itoa(i) + "\n")
+	}
+	return b.String()
+}
+
+func TestCSVTimeUnitInferred(t *testing.T) {
+	// 2022-07-11T10:06:17Z, the first timestamp of the HAR phone file
+	// s01_01_sp.csv, in each epoch unit; 100 Hz rows. Epoch ranges for
+	// dates 2000..2100 (derived from the calendar: 946684800 s and
+	// 4102444800 s) do not overlap between units.
+	const sec = 1657533977
+	at := time.Unix(sec, 0).UTC()
+	for _, c := range []struct {
+		head        string
+		first, step int64
+		opt         CSVOptions
+		rate        float64
+		epoch, warn bool
+		unit        string
+	}{
+		{"timestamp", sec * 1000, 10, CSVOptions{}, 100, true, true, "ms"},
+		{"timestamp", sec * 1e6, 10000, CSVOptions{}, 100, true, true, "us"},
+		{"timestamp", sec * 1e9, 1e7, CSVOptions{}, 100, true, true, "ns"},
+		{"time", sec, 1, CSVOptions{}, 1, true, true, "s"},
+		{"timestamp[ms]", sec * 1000, 10, CSVOptions{}, 100, true, true, "ms"},                 // unit declared, epoch-ness inferred
+		{"timestamp[ms]", sec * 1000, 10, CSVOptions{EpochTime: true}, 100, true, false, "ms"}, // both declared
+		// A declared unit wins even when it makes no sense: seconds give 0.1 Hz.
+		{"timestamp", sec * 1000, 10, CSVOptions{Units: map[string]string{"timestamp": "s"}}, 0.1, false, false, "s"},
+		// RelativeTime: a clock since boot, never epoch; seconds when no unit.
+		{"timestamp", sec * 1000, 10, CSVOptions{RelativeTime: true}, 0.1, false, false, "s"},
+		{"t[ns]", 2461035888559, 1e7, CSVOptions{RelativeTime: true}, 100, false, false, "ns"},
+		// Small values are seconds from the start, silently as before.
+		{"t", 0, 1, CSVOptions{}, 1, false, false, "s"},
+		// Between the ranges: seconds, with a warning.
+		{"t", 2e10, 1, CSVOptions{}, 1, false, true, "s"},
+	} {
+		rec, err := ReadCSV(strings.NewReader(epochCSV(c.head, c.first, c.step, 300)), "e.csv", c.opt, time.Time{})
+		if err != nil {
+			t.Fatalf("%s %+v: %v", c.head, c.opt, err)
+		}
+		ch := rec.Channels[0]
+		if math.Abs(ch.RateHz-c.rate) > 1e-9*c.rate || rec.StartKnown != c.epoch || (c.epoch && !rec.Start.Equal(at)) {
+			t.Errorf("%s %d %+v: %v Hz, start %v known %v", c.head, c.first, c.opt, ch.RateHz, rec.Start, rec.StartKnown)
+		}
+		warned := len(rec.Warnings) == 1 && errors.Is(rec.Warnings[0], ErrInferred)
+		if warned != c.warn || len(rec.Warnings) > 1 {
+			t.Errorf("%s %d %+v: warnings %v", c.head, c.first, c.opt, rec.Warnings)
+		}
+		if warned && c.epoch && !strings.Contains(rec.Warnings[0].Error(), "2022-07-11T10:06:17Z") {
+			t.Errorf("warning does not state the start: %v", rec.Warnings[0])
+		}
+	}
+	// Jittered epoch ms: the report states the unit and the inference.
+	in := "timestamp,x\n1657533977813,1\n1657533977824,2\n1657533977833,3\n1657533977845,4\n1657533977853,5\n"
+	rec, err := ReadCSV(strings.NewReader(in), "j.csv", CSVOptions{}, time.Time{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r := rec.Resample; r == nil || r.TimeUnit != "ms" || !r.TimeEpoch || !r.TimeInferred || r.RateHz != 100 {
+		t.Errorf("report %+v", r)
+	}
+	if want := time.UnixMilli(1657533977813).UTC(); !rec.Start.Equal(want) {
+		t.Errorf("start %v, want %v", rec.Start, want)
+	}
+}
+
+func TestCSVOptionErrors(t *testing.T) {
+	for _, c := range []struct {
+		in  string
+		opt CSVOptions
+	}{
+		{"2461035888559,2.29,6.77\n2461045915746,1.61,6.12\n", CSVOptions{}}, // no header row
+		{"t,x\n0,1\n1,2\n", CSVOptions{EpochTime: true, RelativeTime: true}},
+	} {
+		_, err := ReadCSV(strings.NewReader(c.in), "o.csv", c.opt, time.Time{})
+		if !errors.Is(err, ErrHeader) || !strings.Contains(err.Error(), "o.csv") {
+			t.Errorf("%q %+v: err %v, want ErrHeader", c.in, c.opt, err)
+		}
+	}
+}
+
+func TestCSVHARPhoneDefaults(t *testing.T) {
+	// The HAR phone file (harPhoneFile; header x_acc,...,timestamp,label
+	// with Unix-ms timestamps and no declared unit) opened with no options:
+	// milliseconds are inferred and reported, the start is the first
+	// timestamp, 1657533977813 ms (read from the file), and the rate is
+	// about 100 Hz (the dataset's nominal rate).
+	p := refdata.Shared(t, harPhoneFile)
+	rec, err := Open(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := time.UnixMilli(1657533977813).UTC(); !rec.Start.Equal(want) || !rec.StartKnown {
+		t.Errorf("start %v, want %v", rec.Start, want)
+	}
+	r := rec.Resample
+	if r == nil || r.TimeUnit != "ms" || !r.TimeEpoch || !r.TimeInferred || r.RateHz != 100 {
+		t.Fatalf("report %+v", r)
+	}
+	if len(rec.Warnings) != 1 || !errors.Is(rec.Warnings[0], ErrInferred) {
+		t.Errorf("warnings %v, want one inference", rec.Warnings)
+	}
+	for i, role := range []Role{RoleAccX, RoleAccY, RoleAccZ} {
+		if c := rec.Channels[i]; c.Role != role || c.RateHz != 100 {
+			t.Errorf("channel %d %q role %v rate %v", i, c.Name, c.Role, c.RateHz)
+		}
+	}
+	// Stream reading gives the same header and warning (the CLI's path).
+	s, err := OpenStream(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	if !s.Info.Start.Equal(rec.Start) || len(s.Info.Warnings) != 1 {
+		t.Errorf("stream: start %v, warnings %v", s.Info.Start, s.Info.Warnings)
+	}
+}
+
+func TestCSVStepCounterSinceBoot(t *testing.T) {
+	// Step-counter validation walk (CC BY 4.0; dataset README: no header,
+	// "timestamp (nanoseconds since boot), accx, accy, accz", three step
+	// counts; the file name carries the start as a Unix ms time,
+	// 1506423438471). The boot clock, read from the file as 2461035888559,
+	// looks like an epoch millisecond by magnitude, so it must be declared:
+	// RelativeTime with Options.Start puts the first row at the start.
+	p := refdata.Shared(t, "open-data/step-counter/validation/user1_armband_1506423438471.csv")
+	start := time.UnixMilli(1506423438471).UTC()
+	cols := []string{"t", "x[m/s2]", "y[m/s2]", "z[m/s2]", "steps_authors", "steps_truth", "steps_phone"}
+	rec, err := OpenWith(p, Options{Start: start, CSV: CSVOptions{Columns: cols, RelativeTime: true, Units: map[string]string{"t": "ns"}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rec.Start.Equal(start) || rec.StartKnown || len(rec.Warnings) != 0 {
+		t.Errorf("start %v (known %v), warnings %v", rec.Start, rec.StartKnown, rec.Warnings)
+	}
+	if r := rec.Resample; r == nil || math.Abs(r.RateHz-100) > 2 || r.TimeUnit != "ns" || r.TimeEpoch || r.TimeInferred {
+		t.Errorf("report %+v", r)
+	}
+	// Undeclared, the same column is taken for epoch milliseconds, which
+	// is wrong (2047) and is reported, never silent.
+	bad, err := OpenWith(p, Options{CSV: CSVOptions{Columns: cols}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(bad.Warnings) != 1 || !errors.Is(bad.Warnings[0], ErrInferred) || !strings.Contains(bad.Warnings[0].Error(), "RelativeTime") || bad.Start.Year() != 2047 {
+		t.Errorf("undeclared boot clock: start %v, warnings %v", bad.Start, bad.Warnings)
+	}
+}

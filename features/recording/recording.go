@@ -77,6 +77,11 @@ var (
 	ErrData = errors.New("invalid data")
 	// ErrNotFound marks a missing record, annotator or channel.
 	ErrNotFound = errors.New("not found")
+	// ErrInferred marks a warning in Recording.Warnings saying that
+	// something the file did not declare was inferred from its content
+	// (a CSV time unit or Unix epoch times guessed from the magnitude of
+	// the values).
+	ErrInferred = errors.New("inferred, not declared")
 )
 
 // Role says what a channel measures, as far as Tidalbeat is concerned.
@@ -152,7 +157,8 @@ type Recording struct {
 	// patient and recording identification fields).
 	Comments []string
 	// Warnings lists problems that did not stop reading, each wrapping a
-	// sentinel: a WFDB checksum mismatch wraps ErrChecksum.
+	// sentinel: a WFDB checksum mismatch wraps ErrChecksum, a CSV time
+	// unit inferred from the values wraps ErrInferred.
 	Warnings []error
 	// Resample describes how irregular CSV timestamps were put on a uniform
 	// grid; nil when the data were already uniform or came from a format
