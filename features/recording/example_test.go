@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"io"
 	"log"
+	"strings"
+	"time"
 
 	"github.com/tidalbeat/tidalbeat/features/recording"
 )
@@ -107,4 +109,45 @@ func ExampleWriteWFDBAnnotations() {
 	// V at 1.278 s beat=true ""
 	// N at 5.556 s beat=true "after a pause"
 	// 30 bytes
+}
+
+// A phone export without a header whose first column is a clock since boot
+// in nanoseconds (the step-counter layout): name the columns, declare the
+// unit and say the clock is relative; Options.Start is then the wall-clock
+// time of the first row. (Undeclared, 2.46e12 would look like a Unix
+// millisecond in 2047 and be reported as such in Recording.Warnings.)
+func ExampleReadCSV_sinceBoot() {
+	in := "2461035888559,2.29,6.77,6.65\n2461045888559,1.61,6.12,6.84\n2461055888559,1.42,5.91,7.03\n"
+	start := time.Date(2017, 9, 26, 10, 57, 18, 471e6, time.UTC)
+	rec, err := recording.ReadCSV(strings.NewReader(in), "walk.csv", recording.CSVOptions{
+		Columns:      []string{"t[ns]", "x[m/s2]", "y[m/s2]", "z[m/s2]"},
+		RelativeTime: true,
+	}, start)
+	if err != nil {
+		log.Fatal(err)
+	}
+	fmt.Println(rec.Start.Format(time.RFC3339Nano), len(rec.Warnings), "warnings")
+	for _, c := range rec.Channels {
+		fmt.Printf("%s %s %g Hz %v\n", c.Name, c.Unit, c.RateHz, c.Samples)
+	}
+	// Output:
+	// 2017-09-26T10:57:18.471Z 0 warnings
+	// x m/s2 100 Hz [2.29 1.61 1.42]
+	// y m/s2 100 Hz [6.77 6.12 5.91]
+	// z m/s2 100 Hz [6.65 6.84 7.03]
+}
+
+// A time column holding Unix epoch milliseconds without a declared unit is
+// recognised by its magnitude; the start is set and the inference reported.
+func ExampleReadCSV_epochMilliseconds() {
+	in := "timestamp,acc_x\n1657533977813,1\n1657533977823,2\n1657533977833,3\n"
+	rec, err := recording.ReadCSV(strings.NewReader(in), "phone.csv", recording.CSVOptions{}, time.Time{})
+	if err != nil {
+		log.Fatal(err)
+	}
+	fmt.Println(rec.Start.Format(time.RFC3339Nano), rec.StartKnown, rec.Channels[0].RateHz, "Hz")
+	fmt.Println(errors.Is(rec.Warnings[0], recording.ErrInferred))
+	// Output:
+	// 2022-07-11T10:06:17.813Z true 100 Hz
+	// true
 }
