@@ -213,6 +213,11 @@ func FuzzCSV(f *testing.F) {
 	f.Add([]byte("time[s],ECG[mV],acc_x[m/s2]\n0,0.1,9.8\n0.02,0.2,9.7\n0.05,,9.6\n"))
 	f.Add([]byte("timestamp,x,label\n2026-06-01T09:00:00Z,1,run\n2026-06-01T09:00:00.1Z,2,walk\n"))
 	f.Add([]byte("t,x\n0,1\n0,2\n1,3\n"))
+	f.Add([]byte("timestamp,x\n1657533977813,1\n1657533977824,2\n1657533977833,3\n")) // epoch ms, unit inferred
+	f.Add([]byte("2461035888559,2.29,6.77\n2461045915746,1.61,6.12\n"))               // no header row
+	if b := sharedSeed("open-data/har-phone-watch/DATA/s01/s01_01_sp.csv", 4000); b != nil {
+		f.Add(b) // phone timestamps in bursts (jitter allowance)
+	}
 	if b := sharedSeed("open-data/har-phone-watch/DATA/s01/s01_01_sw.csv", 4000); b != nil {
 		f.Add(b)
 	}
