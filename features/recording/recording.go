@@ -28,7 +28,10 @@
 //     scaling, TAL annotations; EDF+D discontinuities are filled with NaN and
 //     listed as gaps. WriteEDF writes EDF+C.
 //   - CSV: see ReadCSV for the layout; irregular timestamps are resampled
-//     and reported in Recording.Resample.
+//     and reported in Recording.Resample (jitter is bridged, real holes are
+//     gaps); a time unit the file does not declare is inferred from the
+//     magnitude of the values (Unix epoch s, ms, us or ns) and reported in
+//     Recording.Warnings.
 //
 // Memory: signal data cost 8 bytes per sample (float64) plus transient
 // buffers; a header may not ask for more samples than its files hold, and NaN
