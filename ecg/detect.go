@@ -390,6 +390,11 @@ func (c *core) init(fs float64, o Options) error {
 	for size < need {
 		size <<= 1
 	}
+	if size <= ringFast {
+		size = ringFast // a constant ring length for the fused path
+	} else {
+		c.fused = false
+	}
 	c.mask = size - 1
 	c.cbuf = make([]float64, size)
 	c.fbuf = make([]float64, size)

@@ -29,11 +29,11 @@ func fusedShape(cs, bs []sec) bool {
 }
 
 // fusedState is the per-sample state of the fused loop: the five biquad
-// states, the last four band-passed samples, the last two integrator
-// samples and the integrator sum.
+// states, the last two integrator samples and the integrator sum (the
+// band-passed history the derivative needs is in the ring).
 type fusedState struct {
 	pz0, pz1, qz0, qz1, rz0, rz1, uz0, uz1, wz0, wz1 float64
-	f1, f2, f3, f4, m1, m2, sum                      float64
+	m1, m2, sum                                      float64
 }
 
 // fusedCoef holds the coefficients runFused uses, with k8 = fs/8 (derivative
@@ -48,84 +48,87 @@ type fusedCoef struct {
 	intN               int
 }
 
+// ringFast is the ring-buffer length of the fused path: a constant, so the
+// ring indices need no bounds checks. init uses it whenever the detector
+// needs at most that many samples of history (the default options at every
+// supported rate).
+const ringFast = 1024
+
 // runFused is runBlock for the fused chain shape, bit for bit the same
-// numbers as the block path (filter32 followed by the detection loop). The
-// call-free inner loop (fusedLoop) runs until a sample needs the decision
-// logic: during learning, at a local maximum of the integrator, or when a
-// pending peak or a search-back is due. That sample is finished here.
+// numbers as the general path. Per block of at most blockN samples, condPass
+// runs the three conditioning sections (their states in registers) into
+// blkC; then the call-free bandLoop runs the band-pass, derivative, squaring
+// and integrator until a sample needs the decision logic (during learning,
+// at a local maximum of the integrator, or when a pending peak or a
+// search-back is due), and that sample is finished here.
 func (c *core) runFused(x []float64) {
 	var st fusedState
 	p, q, r, u, w := &c.cs[0], &c.cs[1], &c.cs[2], &c.bs[0], &c.bs[1]
 	st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1 = p.z0, p.z1, q.z0, q.z1, r.z0, r.z1
 	st.uz0, st.uz1, st.wz0, st.wz1 = u.z0, u.z1, w.z0, w.z1
-	st.f1, st.f2, st.f3, st.f4 = c.f1, c.f2, c.f3, c.f4
 	st.m1, st.m2, st.sum = c.m1, c.m2, c.sum
 	cf := &c.fc
+	cb := (*[ringFast]float64)(c.cbuf)
+	fb := (*[ringFast]float64)(c.fbuf)
+	db := (*[ringFast]float64)(c.dbuf)
 	seg2 := c.seg + 2
 	for len(x) > 0 {
-		due := min(c.pendDue, c.sbDue)
-		if !c.learned {
-			due = c.n
-		}
-		k, mv := fusedLoop(&st, cf, x, c.cbuf, c.fbuf, c.dbuf, c.mask, c.n, due)
-		c.n += k
-		x = x[k:]
-		if mv < 0 {
-			continue // x exhausted without an event
-		}
-		// The decision logic for sample n (its filters have run).
-		n := c.n - 1
-		if !c.learned {
-			c.learnStep(n, mv, c.fbuf[n&c.mask])
-		}
-		if n >= c.pendDue {
-			c.finalize(c.pk, c.pv)
-			c.pending = false
-			c.pendDue = math.MaxInt
-		}
-		m1, m2 := st.m1, st.m2
-		if m1 > m2 && m1 >= mv && n >= seg2 {
-			if !c.pending {
-				c.pending, c.pk, c.pv = true, n-1, m1
-				c.pendDue = n - 1 + c.refN + 2
-			} else if m1 > c.pv {
-				c.pk, c.pv = n-1, m1
-				c.pendDue = n - 1 + c.refN + 2
+		blk := x[:min(len(x), len(c.blkC))]
+		x = x[len(blk):]
+		bc := c.blkC[:len(blk)]
+		condPass(&st, cf, blk, bc)
+		for len(bc) > 0 {
+			due := min(c.pendDue, c.sbDue)
+			if !c.learned {
+				due = c.n
 			}
-		}
-		st.m2, st.m1 = m1, mv
-		if n >= c.sbDue {
-			c.searchBack(n)
+			k, mv := bandLoop(&st, cf, bc, cb, fb, db, c.n, due)
+			c.n += k
+			bc = bc[k:]
+			if mv < 0 {
+				break // block done without an event
+			}
+			// The decision logic for sample n (its filters have run).
+			n := c.n - 1
+			if !c.learned {
+				c.learnStep(n, mv, fb[n&(ringFast-1)])
+			}
+			if n >= c.pendDue {
+				c.finalize(c.pk, c.pv)
+				c.pending = false
+				c.pendDue = math.MaxInt
+			}
+			m1, m2 := st.m1, st.m2
+			if m1 > m2 && m1 >= mv && n >= seg2 {
+				if !c.pending {
+					c.pending, c.pk, c.pv = true, n-1, m1
+					c.pendDue = n - 1 + c.refN + 2
+				} else if m1 > c.pv {
+					c.pk, c.pv = n-1, m1
+					c.pendDue = n - 1 + c.refN + 2
+				}
+			}
+			st.m2, st.m1 = m1, mv
+			if n >= c.sbDue {
+				c.searchBack(n)
+			}
 		}
 	}
 	p.z0, p.z1, q.z0, q.z1, r.z0, r.z1 = st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1
 	u.z0, u.z1, w.z0, w.z1 = st.uz0, st.uz1, st.wz0, st.wz1
-	c.f1, c.f2, c.f3, c.f4 = st.f1, st.f2, st.f3, st.f4
 	c.m1, c.m2, c.sum = st.m1, st.m2, st.sum
 }
 
-// fusedLoop runs the filters, derivative, squaring and integrator over x
-// for samples n, n+1, ... It stops after the first sample that needs the
-// decision logic (index >= due, or a local maximum of the integrator at the
-// previous sample) and returns the number of samples consumed and that
-// sample's integrator value, with st.m1 and st.m2 not yet shifted; or
-// len(x) and -1 when no sample needed it. It makes no calls, so the states
-// stay in registers.
-func fusedLoop(st *fusedState, cf *fusedCoef, x, cbuf, fbuf, dbuf []float64, m, n, due int) (int, float64) {
+// condPass runs the conditioning sections over x into out: the baseline
+// high-pass (b1 = -2 b0, b2 = b0) and the two notches (b2 = b0).
+func condPass(st *fusedState, cf *fusedCoef, x, out []float64) {
 	pz0, pz1, qz0, qz1, rz0, rz1 := st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1
-	uz0, uz1, wz0, wz1 := st.uz0, st.uz1, st.wz0, st.wz1
-	f1, f2, f3, f4 := st.f1, st.f2, st.f3, st.f4
-	m1, m2, sum := st.m1, st.m2, st.sum
-	cbuf, fbuf, dbuf = cbuf[:m+1], fbuf[:m+1], dbuf[:m+1]
-	intN := cf.intN
-	k, ev := len(x), -1.0
+	out = out[:len(x)]
 	for j, v := range x {
-		// Baseline high-pass (b1 = -2 b0, b2 = b0).
 		pv := cf.pb0 * v
 		y1 := pv + pz0
 		pz0 = pz1 - (pv + pv + cf.pa1*y1)
 		pz1 = pv - cf.pa2*y1
-		// Notches (b2 = b0).
 		qv := cf.qb0 * y1
 		y2 := qv + qz0
 		qz0 = cf.qb1*y1 - cf.qa1*y2 + qz1
@@ -134,7 +137,26 @@ func fusedLoop(st *fusedState, cf *fusedCoef, x, cbuf, fbuf, dbuf []float64, m, 
 		cv := rv + rz0
 		rz0 = cf.rb1*y2 - cf.ra1*cv + rz1
 		rz1 = rv - cf.ra2*cv
-		// Detection band: high-pass then low-pass (b1 = 2 b0, b2 = b0).
+		out[j] = cv
+	}
+	st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1 = pz0, pz1, qz0, qz1, rz0, rz1
+}
+
+// bandLoop runs the detection band-pass (high-pass then low-pass, b1 = -2
+// b0 and 2 b0, b2 = b0), the derivative, the squaring and the integrator
+// over the conditioned samples x for indices n, n+1, ..., writing the rings.
+// It stops after the first sample that needs the decision logic (index >=
+// due, or a local maximum of the integrator at the previous sample) and
+// returns the number of samples consumed and that sample's integrator value,
+// with st.m1 and st.m2 not yet shifted; or len(x) and -1 when no sample
+// needed it. It makes no calls, so the states stay in registers.
+func bandLoop(st *fusedState, cf *fusedCoef, x []float64, cbuf, fbuf, dbuf *[ringFast]float64, n, due int) (int, float64) {
+	const m = ringFast - 1
+	uz0, uz1, wz0, wz1 := st.uz0, st.uz1, st.wz0, st.wz1
+	m1, m2, sum := st.m1, st.m2, st.sum
+	intN := cf.intN
+	k, ev := len(x), -1.0
+	for j, cv := range x {
 		uv := cf.ub0 * cv
 		y4 := uv + uz0
 		uz0 = uz1 - (uv + uv + cf.ua1*y4)
@@ -143,11 +165,11 @@ func fusedLoop(st *fusedState, cf *fusedCoef, x, cbuf, fbuf, dbuf []float64, m, 
 		fv := wv + wz0
 		wz0 = wv + wv - cf.wa1*fv + wz1
 		wz1 = wv - cf.wa2*fv
-
 		// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise
-		// 12.14); samples before the segment start count as zero.
+		// 12.14); samples before the segment start count as zero (the rings
+		// are cleared at each segment start).
+		f1, f3, f4 := fbuf[(n-1)&m], fbuf[(n-3)&m], fbuf[(n-4)&m]
 		dv := (2*fv + f1 - f3 - 2*f4) * cf.k8
-		f4, f3, f2, f1 = f3, f2, f1, fv
 		old := dbuf[(n-intN)&m]
 		sum += dv*dv - old*old
 		if sum < 0 {
@@ -163,9 +185,7 @@ func fusedLoop(st *fusedState, cf *fusedCoef, x, cbuf, fbuf, dbuf []float64, m, 
 		m2, m1 = m1, mv
 		n++
 	}
-	st.pz0, st.pz1, st.qz0, st.qz1, st.rz0, st.rz1 = pz0, pz1, qz0, qz1, rz0, rz1
 	st.uz0, st.uz1, st.wz0, st.wz1 = uz0, uz1, wz0, wz1
-	st.f1, st.f2, st.f3, st.f4 = f1, f2, f3, f4
 	st.m1, st.m2, st.sum = m1, m2, sum
 	return k, ev
 }
