@@ -277,6 +277,7 @@ type core struct {
 	prevOK    bool
 	runLen    int
 	runBad    bool
+	lastBad   int // global index of the latest sample marked bad (-1: none)
 	clipSet   bool
 
 	// Detector state.
@@ -401,6 +402,7 @@ func (c *core) init(fs float64, o Options) error {
 	c.dbuf = make([]float64, size)
 	missedMax := int(math.Ceil(1.66 * 2.0 * fs))
 	c.latencyN = c.flatN + max(missedMax+c.refN, c.learnN) + c.intN + c.refN + ch.bandDelay + c.rWin + 4
+	c.lastBad = -1
 	c.inGap = true // nothing seen yet: the first valid sample starts a segment
 	c.gapStart = 0
 	c.pendDue, c.sbDue = math.MaxInt, math.MaxInt
@@ -419,7 +421,9 @@ func (c *core) pushChunk(chunk []float64) {
 		c.validate(chunk[:k])
 		chunk = chunk[k:]
 		if done := len(c.pend) - c.flatN; done > 0 {
-			c.process(c.pend[:done], c.pendBad[:done])
+			// lastBad < pendStart: no pending sample is bad (flat-run
+			// marks all lie before the sample that completed the run).
+			c.process(c.pend[:done], c.pendBad[:done], c.lastBad < c.pendStart)
 			n := copy(c.pend, c.pend[done:])
 			copy(c.pendBad, c.pendBad[done:])
 			c.pend, c.pendBad = c.pend[:n], c.pendBad[:n]
@@ -441,10 +445,18 @@ func (c *core) validate(xs []float64) {
 		c.pendBad = append(c.pendBad, make([]bool, len(xs))...)
 	}
 	bads := c.pendBad[p0:]
+	bads = bads[:len(xs)]
+	clear(bads) // only bad samples are marked below
 	prev, prevOK, runLen := c.prev, c.prevOK, c.runLen
 	lo, hi, clip, flatN := c.opt.ClipLowmV, c.opt.ClipHighmV, c.clipSet, c.flatN
 	for k, x := range xs {
-		// x-x is NaN exactly when x is NaN or infinite.
+		// x-x is NaN exactly when x is NaN or infinite. The common case, a
+		// finite sample inside the rails that differs from its predecessor,
+		// takes the short way (the same outcome as the general code below).
+		if x-x == 0 && x != prev && (!clip || (x < hi && x > lo)) {
+			prev, prevOK, runLen = x, true, 1
+			continue
+		}
 		bad := x-x != 0 || (clip && (x >= hi || x <= lo))
 		if !bad && prevOK && x == prev {
 			runLen++
@@ -461,14 +473,17 @@ func (c *core) validate(xs []float64) {
 			}
 			bad = true
 		}
-		bads[k] = bad
+		if bad {
+			bads[k] = true
+			c.lastBad = c.in + k
+		}
 	}
 	c.in += len(xs)
 	c.prev, c.prevOK, c.runLen = prev, prevOK, runLen
 }
 
 func (c *core) flush() {
-	c.process(c.pend, c.pendBad)
+	c.process(c.pend, c.pendBad, c.lastBad < c.pendStart)
 	c.pendStart += len(c.pend)
 	c.pend, c.pendBad = c.pend[:0], c.pendBad[:0]
 	c.endSegment()
@@ -506,9 +521,9 @@ func (c *core) endSegment() {
 
 // process feeds final samples to the detector: gaps for bad ones, the fast
 // loop for each run of good ones.
-func (c *core) process(x []float64, bad []bool) {
+func (c *core) process(x []float64, bad []bool, allGood bool) {
 	for i := 0; i < len(x); {
-		if bad[i] {
+		if !allGood && bad[i] {
 			if !c.inGap {
 				c.endSegment()
 				c.inGap = true
@@ -518,9 +533,12 @@ func (c *core) process(x []float64, bad []bool) {
 			i++
 			continue
 		}
-		j := i + 1
-		for j < len(x) && !bad[j] {
-			j++
+		j := len(x)
+		if !allGood {
+			j = i + 1
+			for j < len(x) && !bad[j] {
+				j++
+			}
 		}
 		if c.inGap {
 			if c.n > c.gapStart {
@@ -833,14 +851,22 @@ func (c *core) finalize(k int, v float64) {
 	// window ending at k, shifted by the derivative's 2-sample delay.
 	lo := max(c.seg, k-c.intN-2)
 	fpos := k
-	for j := lo; j <= k; j++ {
-		af := math.Abs(c.fbuf[j&m])
-		if af > cd.peakF {
-			cd.peakF, fpos = af, j
+	// The window in at most two contiguous pieces of the rings, scanned in
+	// index order (the first of equal maxima wins, as sample by sample).
+	for j := lo; j <= k; {
+		s := j & m
+		e := min(s+k-j+1, len(c.fbuf))
+		fs, ds := c.fbuf[s:e], c.dbuf[s:e]
+		ds = ds[:len(fs)]
+		for t, f := range fs {
+			if af := math.Abs(f); af > cd.peakF {
+				cd.peakF, fpos = af, j+t
+			}
+			if ad := math.Abs(ds[t]); ad > cd.slope {
+				cd.slope = ad
+			}
 		}
-		if ad := math.Abs(c.dbuf[j&m]); ad > cd.slope {
-			cd.slope = ad
-		}
+		j += len(fs)
 	}
 	// R window on the conditioned signal: centred on the band-pass maximum
 	// minus the band-pass group delay, +/- 75 ms.
@@ -855,14 +881,18 @@ func (c *core) finalize(k int, v float64) {
 	}
 	cd.posIdx, cd.negIdx = a, a
 	cd.posV, cd.negV = c.cbuf[a&m], c.cbuf[a&m]
-	for j := a + 1; j <= b; j++ {
-		v := c.cbuf[j&m]
-		if v > cd.posV {
-			cd.posV, cd.posIdx = v, j
+	for j := a + 1; j <= b; {
+		s := j & m
+		cs := c.cbuf[s:min(s+b-j+1, len(c.cbuf))]
+		for t, v := range cs {
+			if v > cd.posV {
+				cd.posV, cd.posIdx = v, j+t
+			}
+			if v < cd.negV {
+				cd.negV, cd.negIdx = v, j+t
+			}
 		}
-		if v < cd.negV {
-			cd.negV, cd.negIdx = v, j
-		}
+		j += len(cs)
 	}
 	if c.interp {
 		cd.posFrac = c.parabola(cd.posIdx, 1)
