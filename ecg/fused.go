@@ -57,10 +57,10 @@ const ringFast = 1024
 // runFused is runBlock for the fused chain shape, bit for bit the same
 // numbers as the general path. Per block of at most blockN samples, condPass
 // runs the three conditioning sections (their states in registers) into
-// blkC; then the call-free bandLoop runs the band-pass, derivative, squaring
-// and integrator until a sample needs the decision logic (during learning,
-// at a local maximum of the integrator, or when a pending peak or a
-// search-back is due), and that sample is finished here.
+// blkC; then the call-free bandLoop runs the band-pass, derivative,
+// squaring, integrator and peak merging until a sample needs the decision
+// logic (when a pending peak or a search-back is due, or during learning),
+// and that sample is finished here.
 func (c *core) runFused(x []float64) {
 	var st fusedState
 	p, q, r, u, w := &c.cs[0], &c.cs[1], &c.cs[2], &c.bs[0], &c.bs[1]
@@ -82,7 +82,7 @@ func (c *core) runFused(x []float64) {
 			if !c.learned {
 				due = c.n
 			}
-			k, mv := bandLoop(&st, cf, bc, cb, fb, db, c.n, due)
+			k, mv := c.bandLoop(&st, bc, cb, fb, db, due)
 			c.n += k
 			bc = bc[k:]
 			if mv < 0 {
@@ -143,18 +143,22 @@ func condPass(st *fusedState, cf *fusedCoef, x, out []float64) {
 }
 
 // bandLoop runs the detection band-pass (high-pass then low-pass, b1 = -2
-// b0 and 2 b0, b2 = b0), the derivative, the squaring and the integrator
-// over the conditioned samples x for indices n, n+1, ..., writing the rings.
-// It stops after the first sample that needs the decision logic (index >=
-// due, or a local maximum of the integrator at the previous sample) and
-// returns the number of samples consumed and that sample's integrator value,
-// with st.m1 and st.m2 not yet shifted; or len(x) and -1 when no sample
-// needed it. It makes no calls, so the states stay in registers.
-func bandLoop(st *fusedState, cf *fusedCoef, x []float64, cbuf, fbuf, dbuf *[ringFast]float64, n, due int) (int, float64) {
+// b0 and 2 b0, b2 = b0), the derivative, the squaring, the integrator and
+// the merging of integrator peaks over the conditioned samples x for indices
+// c.n, c.n+1, ..., writing the rings. It stops at the first sample whose
+// index reaches due (a pending peak to finalise, a search-back, or the
+// learning phase) and returns the number of samples consumed, that sample
+// included, and its integrator value, leaving that sample's peak logic to
+// the caller (st.m1 and st.m2 not yet shifted); or len(x) and -1 when no
+// sample reached due. It makes no calls, so the states stay in registers.
+func (c *core) bandLoop(st *fusedState, x []float64, cbuf, fbuf, dbuf *[ringFast]float64, due int) (int, float64) {
 	const m = ringFast - 1
+	cf := &c.fc
 	uz0, uz1, wz0, wz1 := st.uz0, st.uz1, st.wz0, st.wz1
 	m1, m2, sum := st.m1, st.m2, st.sum
 	intN := cf.intN
+	n, seg2, refN, sbDue := c.n, c.seg+2, c.refN, c.sbDue
+	pending, pk, pv, pendDue := c.pending, c.pk, c.pv, c.pendDue
 	k, ev := len(x), -1.0
 	for j, cv := range x {
 		uv := cf.ub0 * cv
@@ -178,13 +182,22 @@ func bandLoop(st *fusedState, cf *fusedCoef, x []float64, cbuf, fbuf, dbuf *[rin
 		i := n & m
 		cbuf[i], fbuf[i], dbuf[i] = cv, fv, dv
 		mv := sum * cf.inv
-		if n >= due || (m1 > m2 && m1 >= mv) {
+		if n >= due {
 			k, ev = j+1, mv
 			break
+		}
+		// Peaks of the integrator: a local maximum at n-1; peaks closer
+		// than the refractory period are merged, keeping the larger (as in
+		// runFused).
+		if m1 > m2 && m1 >= mv && n >= seg2 && (!pending || m1 > pv) {
+			pending, pk, pv = true, n-1, m1
+			pendDue = n - 1 + refN + 2
+			due = min(pendDue, sbDue)
 		}
 		m2, m1 = m1, mv
 		n++
 	}
+	c.pending, c.pk, c.pv, c.pendDue = pending, pk, pv, pendDue
 	st.uz0, st.uz1, st.wz0, st.wz1 = uz0, uz1, wz0, wz1
 	st.m1, st.m2, st.sum = m1, m2, sum
 	return k, ev
