@@ -4,18 +4,27 @@ import "math"
 
 // The fused pipeline: for the default chain shape (a Butterworth high-pass
 // and two notches for conditioning, a Butterworth high-pass and low-pass for
-// the detection band) one loop runs the five biquads, the derivative, the
-// squaring, the moving-window integrator and the peak logic per sample, with
-// every filter state in a local variable and the ring buffers written
-// directly (no intermediate block arrays).
+// the detection band) a conditioning pass over each block runs the first
+// three biquads with their states in registers, and one call-free loop runs
+// the band-pass, the derivative, the squaring, the moving-window integrator
+// and the merging of integrator peaks per sample, writing constant-length
+// rings (no bounds checks). The decision logic runs only when a candidate
+// is due, as in the general path.
 //
-// The sections' coefficient symmetries are used to save multiplications
-// without changing a single bit of the result: a Butterworth section has
-// b2 == b0 and b1 == -2 b0 (high-pass) or b1 == 2 b0 (low-pass) exactly as
-// designed, and a notch has b2 == b0, so b2*v is b0*v and b1*v is
-// +/-(b0*v + b0*v), products that IEEE 754 arithmetic gives bit for bit
-// (doubling is exact). fusedShape checks the symmetries on the actual
-// coefficients; any other chain takes the general block path.
+// Arithmetic. The sections' coefficient symmetries save multiplications
+// without changing a bit: a Butterworth section has b2 == b0 and b1 == -2 b0
+// (high-pass) or b1 == 2 b0 (low-pass) exactly as designed, and a notch has
+// b2 == b0, so b2*v is b0*v and b1*v is +/-(b0*v + b0*v) (doubling is exact
+// in IEEE 754). fusedShape checks the symmetries on the actual coefficients;
+// any other chain takes the general block path. The state update of each
+// section is reassociated, z0 = (b1*v + z1) - a1*y instead of (b1*v - a1*y)
+// + z1, which takes an addition off the recursive path; that changes the
+// last bits of the filtered values (not the recursion: it is the same
+// transposed direct form II), so beat times and amplitudes can differ from
+// the general path in the last bits (on MIT-BIH record 100 and simulated
+// signals at 128 to 1000 Hz the beat samples and search-back flags are the
+// same). Streaming and batch still run this very code, so they agree bit for
+// bit.
 
 // fusedShape reports whether cs and bs have the shape runFused handles.
 func fusedShape(cs, bs []sec) bool {
@@ -54,10 +63,10 @@ type fusedCoef struct {
 // supported rate).
 const ringFast = 1024
 
-// runFused is runBlock for the fused chain shape, bit for bit the same
-// numbers as the general path. Per block of at most blockN samples, condPass
-// runs the three conditioning sections (their states in registers) into
-// blkC; then the call-free bandLoop runs the band-pass, derivative,
+// runFused is runBlock for the fused chain shape (see above for how its
+// numbers relate to the general path's). Per block of at most blockN
+// samples, condPass runs the three conditioning sections (their states in
+// registers) into blkC; then the call-free bandLoop runs the band-pass, derivative,
 // squaring, integrator and peak merging until a sample needs the decision
 // logic (when a pending peak or a search-back is due, or during learning),
 // and that sample is finished here.
@@ -127,15 +136,15 @@ func condPass(st *fusedState, cf *fusedCoef, x, out []float64) {
 	for j, v := range x {
 		pv := cf.pb0 * v
 		y1 := pv + pz0
-		pz0 = pz1 - (pv + pv + cf.pa1*y1)
+		pz0 = (pz1 - (pv + pv)) - cf.pa1*y1
 		pz1 = pv - cf.pa2*y1
 		qv := cf.qb0 * y1
 		y2 := qv + qz0
-		qz0 = cf.qb1*y1 - cf.qa1*y2 + qz1
+		qz0 = (cf.qb1*y1 + qz1) - cf.qa1*y2
 		qz1 = qv - cf.qa2*y2
 		rv := cf.rb0 * y2
 		cv := rv + rz0
-		rz0 = cf.rb1*y2 - cf.ra1*cv + rz1
+		rz0 = (cf.rb1*y2 + rz1) - cf.ra1*cv
 		rz1 = rv - cf.ra2*cv
 		out[j] = cv
 	}
@@ -156,25 +165,25 @@ func (c *core) bandLoop(st *fusedState, x []float64, cbuf, fbuf, dbuf *[ringFast
 	cf := &c.fc
 	uz0, uz1, wz0, wz1 := st.uz0, st.uz1, st.wz0, st.wz1
 	m1, m2, sum := st.m1, st.m2, st.sum
-	intN := cf.intN
-	n, seg2, refN, sbDue := c.n, c.seg+2, c.refN, c.sbDue
-	pending, pk, pv, pendDue := c.pending, c.pk, c.pv, c.pendDue
+	n := c.n
+	f1, f2, f3, f4 := fbuf[(n-1)&m], fbuf[(n-2)&m], fbuf[(n-3)&m], fbuf[(n-4)&m]
 	k, ev := len(x), -1.0
-	for j, cv := range x {
+	for j := 0; j < len(x); j++ {
+		cv := x[j]
 		uv := cf.ub0 * cv
 		y4 := uv + uz0
-		uz0 = uz1 - (uv + uv + cf.ua1*y4)
+		uz0 = (uz1 - (uv + uv)) - cf.ua1*y4
 		uz1 = uv - cf.ua2*y4
 		wv := cf.wb0 * y4
 		fv := wv + wz0
-		wz0 = wv + wv - cf.wa1*fv + wz1
+		wz0 = (wv + wv + wz1) - cf.wa1*fv
 		wz1 = wv - cf.wa2*fv
 		// 5-point derivative, (2,1,0,-1,-2)/8T (Tompkins 1993 exercise
 		// 12.14); samples before the segment start count as zero (the rings
 		// are cleared at each segment start).
-		f1, f3, f4 := fbuf[(n-1)&m], fbuf[(n-3)&m], fbuf[(n-4)&m]
 		dv := (2*fv + f1 - f3 - 2*f4) * cf.k8
-		old := dbuf[(n-intN)&m]
+		f4, f3, f2, f1 = f3, f2, f1, fv
+		old := dbuf[(n-cf.intN)&m]
 		sum += dv*dv - old*old
 		if sum < 0 {
 			sum = 0
@@ -189,15 +198,14 @@ func (c *core) bandLoop(st *fusedState, x []float64, cbuf, fbuf, dbuf *[ringFast
 		// Peaks of the integrator: a local maximum at n-1; peaks closer
 		// than the refractory period are merged, keeping the larger (as in
 		// runFused).
-		if m1 > m2 && m1 >= mv && n >= seg2 && (!pending || m1 > pv) {
-			pending, pk, pv = true, n-1, m1
-			pendDue = n - 1 + refN + 2
-			due = min(pendDue, sbDue)
+		if m1 > m2 && m1 >= mv && n >= c.seg+2 && (!c.pending || m1 > c.pv) {
+			c.pending, c.pk, c.pv = true, n-1, m1
+			c.pendDue = n - 1 + c.refN + 2
+			due = min(c.pendDue, c.sbDue)
 		}
 		m2, m1 = m1, mv
 		n++
 	}
-	c.pending, c.pk, c.pv, c.pendDue = pending, pk, pv, pendDue
 	st.uz0, st.uz1, st.wz0, st.wz1 = uz0, uz1, wz0, wz1
 	st.m1, st.m2, st.sum = m1, m2, sum
 	return k, ev
