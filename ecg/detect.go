@@ -418,27 +418,45 @@ func (c *core) pushChunk(chunk []float64) {
 	const pieceN = blockN
 	for len(chunk) > 0 {
 		k := min(len(chunk), pieceN)
-		c.validate(chunk[:k])
+		xs := chunk[:k]
 		chunk = chunk[k:]
-		if done := len(c.pend) - c.flatN; done > 0 {
-			// lastBad < pendStart: no pending sample is bad (flat-run
-			// marks all lie before the sample that completed the run).
-			c.process(c.pend[:done], c.pendBad[:done], c.lastBad < c.pendStart)
-			n := copy(c.pend, c.pend[done:])
-			copy(c.pendBad, c.pendBad[done:])
-			c.pend, c.pendBad = c.pend[:n], c.pendBad[:n]
-			c.pendStart += done
+		c.validate(xs) // flags for pend followed by xs, in pendBad
+		p := len(c.pend)
+		done := p + k - c.flatN
+		if done <= 0 {
+			c.pend = append(c.pend, xs...)
+			continue
 		}
+		// The first done samples of pend followed by xs are final; those
+		// in xs are processed in place (no copy). lastBad < pendStart: no
+		// pending sample is bad (flat-run marks all lie before the sample
+		// that completed the run).
+		good := c.lastBad < c.pendStart
+		a := min(done, p)
+		c.process(c.pend[:a], c.pendBad[:a], good)
+		if done > a {
+			c.process(xs[:done-a], c.pendBad[a:done], good)
+		}
+		// Keep the last flatN samples of pend followed by xs.
+		if done >= p {
+			c.pend = append(c.pend[:0], xs[done-p:]...)
+		} else {
+			n := copy(c.pend, c.pend[done:])
+			c.pend = append(c.pend[:n], xs...) // capacity reserved: no allocation
+		}
+		n := copy(c.pendBad, c.pendBad[done:])
+		c.pendBad = c.pendBad[:n]
+		c.pendStart += done
 	}
 }
 
-// validate decides the validity of incoming samples: NaN, infinite or
+// validate decides the validity of incoming samples (appending their flags
+// to pendBad; pushChunk keeps the samples): NaN, infinite or
 // clipped samples are bad at once; a run of flatN identical samples becomes
 // bad as a whole when its last sample arrives (all of it is still pending
 // then).
 func (c *core) validate(xs []float64) {
-	p0 := len(c.pend)
-	c.pend = append(c.pend, xs...) // capacity reserved: no allocation
+	p0 := len(c.pendBad) // flags of the pending samples, then of xs
 	if cap(c.pendBad) >= p0+len(xs) {
 		c.pendBad = c.pendBad[:p0+len(xs)]
 	} else {
