@@ -467,7 +467,26 @@ func (c *core) validate(xs []float64) {
 	clear(bads) // only bad samples are marked below
 	prev, prevOK, runLen := c.prev, c.prevOK, c.runLen
 	lo, hi, clip, flatN := c.opt.ClipLowmV, c.opt.ClipHighmV, c.clipSet, c.flatN
-	for k, x := range xs {
+	for k := 0; k < len(xs); k++ {
+		// Eight ordinary samples at once (no rails set): all finite (the
+		// sum of x-x is 0, NaN otherwise) and each different from its
+		// predecessor (no zero difference: the product of the differences is
+		// neither 0 nor NaN; an underflow to 0 merely takes the general
+		// code). Then every one is good and starts a new run, exactly the
+		// outcome of the general code below.
+		if !clip && k+8 <= len(xs) {
+			g := xs[k : k+8 : k+8]
+			z := ((g[0] - g[0]) + (g[1] - g[1]) + (g[2] - g[2]) + (g[3] - g[3])) +
+				((g[4] - g[4]) + (g[5] - g[5]) + (g[6] - g[6]) + (g[7] - g[7]))
+			d := ((g[0] - prev) * (g[1] - g[0]) * (g[2] - g[1]) * (g[3] - g[2])) *
+				((g[4] - g[3]) * (g[5] - g[4]) * (g[6] - g[5]) * (g[7] - g[6]))
+			if z == 0 && d != 0 && d == d {
+				prev, prevOK, runLen = g[7], true, 1
+				k += 7
+				continue
+			}
+		}
+		x := xs[k]
 		// x-x is NaN exactly when x is NaN or infinite. The common case, a
 		// finite sample inside the rails that differs from its predecessor,
 		// takes the short way (the same outcome as the general code below).
@@ -870,22 +889,25 @@ func (c *core) finalize(k int, v float64) {
 	lo := max(c.seg, k-c.intN-2)
 	fpos := k
 	// The window in at most two contiguous pieces of the rings, scanned in
-	// index order (the first of equal maxima wins, as sample by sample).
+	// index order (the first of equal maxima wins, as sample by sample),
+	// with the running extrema in locals (registers).
+	peakF, slope := 0.0, 0.0
 	for j := lo; j <= k; {
 		s := j & m
 		e := min(s+k-j+1, len(c.fbuf))
 		fs, ds := c.fbuf[s:e], c.dbuf[s:e]
 		ds = ds[:len(fs)]
 		for t, f := range fs {
-			if af := math.Abs(f); af > cd.peakF {
-				cd.peakF, fpos = af, j+t
+			if af := math.Abs(f); af > peakF {
+				peakF, fpos = af, j+t
 			}
-			if ad := math.Abs(ds[t]); ad > cd.slope {
-				cd.slope = ad
+			if ad := math.Abs(ds[t]); ad > slope {
+				slope = ad
 			}
 		}
 		j += len(fs)
 	}
+	cd.peakF, cd.slope = peakF, slope
 	// R window on the conditioned signal: centred on the band-pass maximum
 	// minus the band-pass group delay, +/- 75 ms.
 	ctr := fpos - c.ch.bandDelay + 2
@@ -897,21 +919,22 @@ func (c *core) finalize(k int, v float64) {
 			a, b = c.seg, c.seg
 		}
 	}
-	cd.posIdx, cd.negIdx = a, a
-	cd.posV, cd.negV = c.cbuf[a&m], c.cbuf[a&m]
+	posIdx, negIdx := a, a
+	posV, negV := c.cbuf[a&m], c.cbuf[a&m]
 	for j := a + 1; j <= b; {
 		s := j & m
 		cs := c.cbuf[s:min(s+b-j+1, len(c.cbuf))]
 		for t, v := range cs {
-			if v > cd.posV {
-				cd.posV, cd.posIdx = v, j+t
+			if v > posV {
+				posV, posIdx = v, j+t
 			}
-			if v < cd.negV {
-				cd.negV, cd.negIdx = v, j+t
+			if v < negV {
+				negV, negIdx = v, j+t
 			}
 		}
 		j += len(cs)
 	}
+	cd.posIdx, cd.negIdx, cd.posV, cd.negV = posIdx, negIdx, posV, negV
 	if c.interp {
 		cd.posFrac = c.parabola(cd.posIdx, 1)
 		cd.negFrac = c.parabola(cd.negIdx, -1)
