@@ -887,25 +887,20 @@ func (c *core) finalize(k int, v float64) {
 	// The QRS energy behind an integrator peak lies in the integration
 	// window ending at k, shifted by the derivative's 2-sample delay.
 	lo := max(c.seg, k-c.intN-2)
+	// The extremes of each window first (branch-free max and min, four
+	// accumulators), then the first index attaining them: the outcome of a
+	// sample-by-sample scan that keeps the first strict extremum, without
+	// its unpredictable branches. The windows lie in at most two contiguous
+	// pieces of the rings. A NaN (only from filters overflowed by absurd
+	// input) takes the plain scan.
+	f1, f2 := ringPieces(c.fbuf, m, lo, k)
+	d1, d2 := ringPieces(c.dbuf, m, lo, k)
+	peakF, slope := max(absMax(f1), absMax(f2)), max(absMax(d1), absMax(d2))
 	fpos := k
-	// The window in at most two contiguous pieces of the rings, scanned in
-	// index order (the first of equal maxima wins, as sample by sample),
-	// with the running extrema in locals (registers).
-	peakF, slope := 0.0, 0.0
-	for j := lo; j <= k; {
-		s := j & m
-		e := min(s+k-j+1, len(c.fbuf))
-		fs, ds := c.fbuf[s:e], c.dbuf[s:e]
-		ds = ds[:len(fs)]
-		for t, f := range fs {
-			if af := math.Abs(f); af > peakF {
-				peakF, fpos = af, j+t
-			}
-			if ad := math.Abs(ds[t]); ad > slope {
-				slope = ad
-			}
-		}
-		j += len(fs)
+	if peakF != peakF || slope != slope {
+		peakF, slope, fpos = c.scanQRS(lo, k)
+	} else if peakF > 0 {
+		fpos = lo + firstAbsEq(f1, f2, peakF)
 	}
 	cd.peakF, cd.slope = peakF, slope
 	// R window on the conditioned signal: centred on the band-pass maximum
@@ -919,20 +914,19 @@ func (c *core) finalize(k int, v float64) {
 			a, b = c.seg, c.seg
 		}
 	}
-	posIdx, negIdx := a, a
-	posV, negV := c.cbuf[a&m], c.cbuf[a&m]
-	for j := a + 1; j <= b; {
-		s := j & m
-		cs := c.cbuf[s:min(s+b-j+1, len(c.cbuf))]
-		for t, v := range cs {
-			if v > posV {
-				posV, posIdx = v, j+t
-			}
-			if v < negV {
-				negV, negIdx = v, j+t
-			}
-		}
-		j += len(cs)
+	c1, c2 := ringPieces(c.cbuf, m, a, b)
+	lo1, hi1 := minMax(c1)
+	lo2, hi2 := lo1, hi1
+	if len(c2) > 0 {
+		lo2, hi2 = minMax(c2)
+	}
+	negV, posV := min(lo1, lo2), max(hi1, hi2)
+	var posIdx, negIdx int
+	if posV != posV || negV != negV {
+		posIdx, negIdx, posV, negV = c.scanR(a, b)
+	} else {
+		posIdx, negIdx = a+firstEq(c1, c2, posV), a+firstEq(c1, c2, negV)
+		posV, negV = c.cbuf[posIdx&m], c.cbuf[negIdx&m]
 	}
 	cd.posIdx, cd.negIdx, cd.posV, cd.negV = posIdx, negIdx, posV, negV
 	if c.interp {
@@ -944,6 +938,111 @@ func (c *core) finalize(k int, v float64) {
 		return
 	}
 	c.classify(cd)
+}
+
+// scanQRS is the plain sample-by-sample scan of finalize's QRS window
+// [lo, k]: the largest |band-passed| value (0 and k when none is positive),
+// its first index, and the largest |derivative|.
+func (c *core) scanQRS(lo, k int) (peakF, slope float64, fpos int) {
+	m := c.mask
+	fpos = k
+	for j := lo; j <= k; j++ {
+		if af := math.Abs(c.fbuf[j&m]); af > peakF {
+			peakF, fpos = af, j
+		}
+		if ad := math.Abs(c.dbuf[j&m]); ad > slope {
+			slope = ad
+		}
+	}
+	return peakF, slope, fpos
+}
+
+// scanR is the plain scan of finalize's R window [a, b] on the conditioned
+// signal: the first indices of the maximum and minimum, and their values.
+func (c *core) scanR(a, b int) (posIdx, negIdx int, posV, negV float64) {
+	m := c.mask
+	posIdx, negIdx = a, a
+	posV, negV = c.cbuf[a&m], c.cbuf[a&m]
+	for j := a + 1; j <= b; j++ {
+		v := c.cbuf[j&m]
+		if v > posV {
+			posV, posIdx = v, j
+		}
+		if v < negV {
+			negV, negIdx = v, j
+		}
+	}
+	return posIdx, negIdx, posV, negV
+}
+
+// ringPieces returns ring indices lo..hi (hi-lo+1 <= len(buf)) as at most
+// two contiguous slices, in index order.
+func ringPieces(buf []float64, m, lo, hi int) ([]float64, []float64) {
+	s, n := lo&m, hi-lo+1
+	if s+n <= len(buf) {
+		return buf[s : s+n], nil
+	}
+	return buf[s:], buf[:s+n-len(buf)]
+}
+
+// absMax returns the largest |v| in s, 0 for none, NaN if s holds a NaN.
+func absMax(s []float64) float64 {
+	var a0, a1, a2, a3 float64
+	for len(s) >= 4 {
+		a0, a1 = max(a0, math.Abs(s[0])), max(a1, math.Abs(s[1]))
+		a2, a3 = max(a2, math.Abs(s[2])), max(a3, math.Abs(s[3]))
+		s = s[4:]
+	}
+	for _, v := range s {
+		a0 = max(a0, math.Abs(v))
+	}
+	return max(max(a0, a1), max(a2, a3))
+}
+
+// minMax returns the smallest and largest value of the non-empty s (NaN if
+// s holds a NaN).
+func minMax(s []float64) (float64, float64) {
+	l0, l1, h0, h1 := s[0], s[0], s[0], s[0]
+	for len(s) >= 2 {
+		l0, h0 = min(l0, s[0]), max(h0, s[0])
+		l1, h1 = min(l1, s[1]), max(h1, s[1])
+		s = s[2:]
+	}
+	for _, v := range s {
+		l0, h0 = min(l0, v), max(h0, v)
+	}
+	return min(l0, l1), max(h0, h1)
+}
+
+// firstAbsEq returns the offset of the first v with |v| == x in a then b
+// (x must occur).
+func firstAbsEq(a, b []float64, x float64) int {
+	for i, v := range a {
+		if math.Abs(v) == x {
+			return i
+		}
+	}
+	for i, v := range b {
+		if math.Abs(v) == x {
+			return len(a) + i
+		}
+	}
+	return 0 // unreachable when x occurs
+}
+
+// firstEq returns the offset of the first v == x in a then b (x must occur).
+func firstEq(a, b []float64, x float64) int {
+	for i, v := range a {
+		if v == x {
+			return i
+		}
+	}
+	for i, v := range b {
+		if v == x {
+			return len(a) + i
+		}
+	}
+	return 0 // unreachable when x occurs
 }
 
 // parabola returns the sub-sample offset of the extremum at j of s*cond by a
