@@ -165,10 +165,131 @@ func (c *core) bandLoop(st *fusedState, x []float64, cbuf, fbuf, dbuf *[ringFast
 	cf := &c.fc
 	uz0, uz1, wz0, wz1 := st.uz0, st.uz1, st.wz0, st.wz1
 	m1, m2, sum := st.m1, st.m2, st.sum
-	n := c.n
+	n, intN, seg2 := c.n, cf.intN, c.seg+2
 	f1, f2, f3, f4 := fbuf[(n-1)&m], fbuf[(n-2)&m], fbuf[(n-3)&m], fbuf[(n-4)&m]
 	k, ev := len(x), -1.0
-	for j := 0; j < len(x); j++ {
+	j, stopped := 0, false
+	// Four samples per pass, unrolled so that the band-passed history and
+	// the integrator pair are renamed rather than moved; each sample is
+	// exactly the one-sample step below (which does the remainder).
+	for ; j+4 <= len(x); j += 4 {
+		g := x[j : j+4 : j+4]
+		// Sample n+0.
+		cv0 := g[0]
+		uv0 := cf.ub0 * cv0
+		y0 := uv0 + uz0
+		uz0 = (uz1 - (uv0 + uv0)) - cf.ua1*y0
+		uz1 = uv0 - cf.ua2*y0
+		wv0 := cf.wb0 * y0
+		fv0 := wv0 + wz0
+		wz0 = (wv0 + wv0 + wz1) - cf.wa1*fv0
+		wz1 = wv0 - cf.wa2*fv0
+		dv0 := (2*fv0 + f1 - f3 - 2*f4) * cf.k8
+		old0 := dbuf[(n+0-intN)&m]
+		sum += dv0*dv0 - old0*old0
+		if sum < 0 {
+			sum = 0
+		}
+		cbuf[(n+0)&m], fbuf[(n+0)&m], dbuf[(n+0)&m] = cv0, fv0, dv0
+		mv0 := sum * cf.inv
+		if n+0 >= due {
+			k, ev, stopped = j+0+1, mv0, true
+			break
+		}
+		if m1 > m2 && m1 >= mv0 && n+0 >= seg2 && (!c.pending || m1 > c.pv) {
+			c.pending, c.pk, c.pv = true, n+0-1, m1
+			c.pendDue = n + 0 - 1 + c.refN + 2
+			due = min(c.pendDue, c.sbDue)
+		}
+		// Sample n+1.
+		cv1 := g[1]
+		uv1 := cf.ub0 * cv1
+		y1 := uv1 + uz0
+		uz0 = (uz1 - (uv1 + uv1)) - cf.ua1*y1
+		uz1 = uv1 - cf.ua2*y1
+		wv1 := cf.wb0 * y1
+		fv1 := wv1 + wz0
+		wz0 = (wv1 + wv1 + wz1) - cf.wa1*fv1
+		wz1 = wv1 - cf.wa2*fv1
+		dv1 := (2*fv1 + fv0 - f2 - 2*f3) * cf.k8
+		old1 := dbuf[(n+1-intN)&m]
+		sum += dv1*dv1 - old1*old1
+		if sum < 0 {
+			sum = 0
+		}
+		cbuf[(n+1)&m], fbuf[(n+1)&m], dbuf[(n+1)&m] = cv1, fv1, dv1
+		mv1 := sum * cf.inv
+		if n+1 >= due {
+			k, ev, m1, m2, stopped = j+1+1, mv1, mv0, m1, true
+			break
+		}
+		if mv0 > m1 && mv0 >= mv1 && n+1 >= seg2 && (!c.pending || mv0 > c.pv) {
+			c.pending, c.pk, c.pv = true, n+1-1, mv0
+			c.pendDue = n + 1 - 1 + c.refN + 2
+			due = min(c.pendDue, c.sbDue)
+		}
+		// Sample n+2.
+		cv2 := g[2]
+		uv2 := cf.ub0 * cv2
+		y2 := uv2 + uz0
+		uz0 = (uz1 - (uv2 + uv2)) - cf.ua1*y2
+		uz1 = uv2 - cf.ua2*y2
+		wv2 := cf.wb0 * y2
+		fv2 := wv2 + wz0
+		wz0 = (wv2 + wv2 + wz1) - cf.wa1*fv2
+		wz1 = wv2 - cf.wa2*fv2
+		dv2 := (2*fv2 + fv1 - f1 - 2*f2) * cf.k8
+		old2 := dbuf[(n+2-intN)&m]
+		sum += dv2*dv2 - old2*old2
+		if sum < 0 {
+			sum = 0
+		}
+		cbuf[(n+2)&m], fbuf[(n+2)&m], dbuf[(n+2)&m] = cv2, fv2, dv2
+		mv2 := sum * cf.inv
+		if n+2 >= due {
+			k, ev, m1, m2, stopped = j+2+1, mv2, mv1, mv0, true
+			break
+		}
+		if mv1 > mv0 && mv1 >= mv2 && n+2 >= seg2 && (!c.pending || mv1 > c.pv) {
+			c.pending, c.pk, c.pv = true, n+2-1, mv1
+			c.pendDue = n + 2 - 1 + c.refN + 2
+			due = min(c.pendDue, c.sbDue)
+		}
+		// Sample n+3.
+		cv3 := g[3]
+		uv3 := cf.ub0 * cv3
+		y3 := uv3 + uz0
+		uz0 = (uz1 - (uv3 + uv3)) - cf.ua1*y3
+		uz1 = uv3 - cf.ua2*y3
+		wv3 := cf.wb0 * y3
+		fv3 := wv3 + wz0
+		wz0 = (wv3 + wv3 + wz1) - cf.wa1*fv3
+		wz1 = wv3 - cf.wa2*fv3
+		dv3 := (2*fv3 + fv2 - fv0 - 2*f1) * cf.k8
+		old3 := dbuf[(n+3-intN)&m]
+		sum += dv3*dv3 - old3*old3
+		if sum < 0 {
+			sum = 0
+		}
+		cbuf[(n+3)&m], fbuf[(n+3)&m], dbuf[(n+3)&m] = cv3, fv3, dv3
+		mv3 := sum * cf.inv
+		if n+3 >= due {
+			k, ev, m1, m2, stopped = j+3+1, mv3, mv2, mv1, true
+			break
+		}
+		if mv2 > mv1 && mv2 >= mv3 && n+3 >= seg2 && (!c.pending || mv2 > c.pv) {
+			c.pending, c.pk, c.pv = true, n+3-1, mv2
+			c.pendDue = n + 3 - 1 + c.refN + 2
+			due = min(c.pendDue, c.sbDue)
+		}
+		f4, f3, f2, f1 = fv0, fv1, fv2, fv3
+		m2, m1 = mv2, mv3
+		n += 4
+	}
+	if stopped {
+		j = len(x) // stopped inside the unrolled part
+	}
+	for ; j < len(x); j++ {
 		cv := x[j]
 		uv := cf.ub0 * cv
 		y4 := uv + uz0
@@ -183,7 +304,7 @@ func (c *core) bandLoop(st *fusedState, x []float64, cbuf, fbuf, dbuf *[ringFast
 		// are cleared at each segment start).
 		dv := (2*fv + f1 - f3 - 2*f4) * cf.k8
 		f4, f3, f2, f1 = f3, f2, f1, fv
-		old := dbuf[(n-cf.intN)&m]
+		old := dbuf[(n-intN)&m]
 		sum += dv*dv - old*old
 		if sum < 0 {
 			sum = 0
@@ -198,7 +319,7 @@ func (c *core) bandLoop(st *fusedState, x []float64, cbuf, fbuf, dbuf *[ringFast
 		// Peaks of the integrator: a local maximum at n-1; peaks closer
 		// than the refractory period are merged, keeping the larger (as in
 		// runFused).
-		if m1 > m2 && m1 >= mv && n >= c.seg+2 && (!c.pending || m1 > c.pv) {
+		if m1 > m2 && m1 >= mv && n >= seg2 && (!c.pending || m1 > c.pv) {
 			c.pending, c.pk, c.pv = true, n-1, m1
 			c.pendDue = n - 1 + c.refN + 2
 			due = min(c.pendDue, c.sbDue)
