@@ -139,6 +139,14 @@ type Result struct {
 // Pan-Tompkins algorithm (Pan and Tompkins 1985) at the signal's own rate,
 // for either polarity. NaN samples, clipped samples and flat lines are gaps.
 // It is exactly NewDetector, one Push of all of x, and Flush.
+//
+// Speed: with the default options, conditioning plus detection runs at
+// about 60 to 70 million samples per second on one core of a 2.6 GHz AMD
+// EPYC (BenchmarkDetect24h, a simulated 24 h lead at 250 and 500 Hz, -cpu 1,
+// measured while another job shared the machine), so a day at 500 Hz takes
+// about 0.7 s. Options outside the default filter shape (no or one notch, long
+// integration or refractory times) take a general path, about 50 million
+// samples per second.
 func Detect(x []float64, rateHz float64, opt Options) (Result, error) {
 	if len(x) == 0 {
 		return Result{}, fmt.Errorf("ecg: detect: %w", ErrEmpty)
@@ -167,7 +175,8 @@ func Detect(x []float64, rateHz float64, opt Options) (Result, error) {
 // (measured on MIT-BIH record 100: median 0.82 s, largest 2.3 s, bound 4.5 s
 // with the default options at 360 Hz).
 //
-// Memory is fixed: ring buffers of about one second, at most 4096 + FlatS
+// Memory is fixed: three ring buffers of 1024 samples (longer only when
+// options with long time constants need more history), at most 4096 + FlatS
 // pending samples, and a candidate pool bounded by the search-back limit. The
 // only allocations per Push are the returned beats and closed gaps.
 type Detector struct {
