@@ -995,32 +995,60 @@ func ringPieces(buf []float64, m, lo, hi int) ([]float64, []float64) {
 }
 
 // absMax returns the largest |v| in s, 0 for none, NaN if s holds a NaN.
+// It compares the bit patterns of |v| as integers (their order is the order
+// of the values, NaN patterns above +Inf), which compiles to conditional
+// moves rather than branches.
 func absMax(s []float64) float64 {
-	var a0, a1, a2, a3 float64
-	for len(s) >= 4 {
-		a0, a1 = max(a0, math.Abs(s[0])), max(a1, math.Abs(s[1]))
-		a2, a3 = max(a2, math.Abs(s[2])), max(a3, math.Abs(s[3]))
-		s = s[4:]
+	const sign = 1 << 63
+	var m0, m1 uint64
+	for len(s) >= 2 {
+		a, b := math.Float64bits(s[0])&^sign, math.Float64bits(s[1])&^sign
+		if a > m0 {
+			m0 = a
+		}
+		if b > m1 {
+			m1 = b
+		}
+		s = s[2:]
 	}
-	for _, v := range s {
-		a0 = max(a0, math.Abs(v))
+	if len(s) == 1 {
+		if a := math.Float64bits(s[0]) &^ sign; a > m0 {
+			m0 = a
+		}
 	}
-	return max(max(a0, a1), max(a2, a3))
+	return math.Float64frombits(max(m0, m1))
+}
+
+// orderKey maps a float64 to an integer with the same order (-0 just below
+// +0, NaN patterns beyond the infinities); keyValue inverts it.
+func orderKey(v float64) uint64 {
+	b := math.Float64bits(v)
+	return b ^ (uint64(int64(b)>>63) | 1<<63)
+}
+
+func keyValue(k uint64) float64 {
+	if k&(1<<63) != 0 {
+		return math.Float64frombits(k ^ 1<<63)
+	}
+	return math.Float64frombits(^k)
 }
 
 // minMax returns the smallest and largest value of the non-empty s (NaN if
-// s holds a NaN).
+// s holds a NaN; of equal zeros, -0 is the smaller), by integer keys (see
+// absMax).
 func minMax(s []float64) (float64, float64) {
-	l0, l1, h0, h1 := s[0], s[0], s[0], s[0]
-	for len(s) >= 2 {
-		l0, h0 = min(l0, s[0]), max(h0, s[0])
-		l1, h1 = min(l1, s[1]), max(h1, s[1])
-		s = s[2:]
+	lo := orderKey(s[0])
+	hi := lo
+	for _, v := range s[1:] {
+		k := orderKey(v)
+		if k < lo {
+			lo = k
+		}
+		if k > hi {
+			hi = k
+		}
 	}
-	for _, v := range s {
-		l0, h0 = min(l0, v), max(h0, v)
-	}
-	return min(l0, l1), max(h0, h1)
+	return keyValue(lo), keyValue(hi)
 }
 
 // firstAbsEq returns the offset of the first v with |v| == x in a then b

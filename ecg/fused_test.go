@@ -136,3 +136,52 @@ func TestFusedMatchesGeneral(t *testing.T) {
 		}
 	}
 }
+
+// TestExtremaHelpers checks finalize's branch-free extrema against plain
+// loops (self-consistency), on data with signed zeros, infinities and NaN.
+func TestExtremaHelpers(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 5))
+	special := []float64{0, math.Copysign(0, -1), math.Inf(1), math.Inf(-1), 1e-310, -1e-310, math.MaxFloat64, -math.MaxFloat64}
+	same := func(a, b float64) bool { return a == b && math.Signbit(a) == math.Signbit(b) || a != a && b != b }
+	for trial := 0; trial < 2000; trial++ {
+		s := make([]float64, 1+rng.IntN(40))
+		for i := range s {
+			s[i] = rng.NormFloat64()
+			if rng.IntN(6) == 0 {
+				s[i] = special[rng.IntN(len(special))]
+			}
+		}
+		if trial%5 == 0 {
+			s[rng.IntN(len(s))] = math.NaN()
+		}
+		for _, v := range s {
+			if k := keyValue(orderKey(v)); math.Float64bits(k) != math.Float64bits(v) {
+				t.Fatalf("key round trip %v -> %v", v, k)
+			}
+		}
+		hasNaN, am, lo, hi := false, 0.0, s[0], s[0]
+		for _, v := range s {
+			hasNaN = hasNaN || v != v
+			am = max(am, math.Abs(v))
+		}
+		for _, v := range s[1:] {
+			if v < lo || v == lo && math.Signbit(v) {
+				lo = v
+			}
+			if v > hi || v == hi && !math.Signbit(v) {
+				hi = v
+			}
+		}
+		gl, gh := minMax(s)
+		ga := absMax(s)
+		if hasNaN {
+			if ga == ga || gl == gl && gh == gh {
+				t.Fatalf("NaN not reported: absMax %v minMax %v %v", ga, gl, gh)
+			}
+			continue
+		}
+		if !same(ga, am) || !same(gl, lo) || !same(gh, hi) {
+			t.Fatalf("%v: absMax %v want %v; minMax %v %v want %v %v", s, ga, am, gl, gh, lo, hi)
+		}
+	}
+}
