@@ -46,8 +46,8 @@ func dayECG(b *testing.B, fs float64) []float64 {
 
 // BenchmarkDetect24h: conditioning plus Pan-Tompkins detection of a 24 h
 // single lead, batch. Target (issue 4): >= 60e6 samples/s per core; measure
-// with -cpu 1 (reached: about 60-70e6 at 250 and 500 Hz on a 2.6 GHz AMD EPYC
-// shared with another job; see Detect).
+// with -cpu 1 (reached: about 60-85e6 at 250 and 500 Hz on a 2.6 GHz AMD
+// EPYC shared with another job; see Detect).
 func BenchmarkDetect24h(b *testing.B) {
 	for _, fs := range []float64{250, 500} {
 		b.Run(fmt.Sprintf("%gHz", fs), func(b *testing.B) {

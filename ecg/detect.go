@@ -141,10 +141,10 @@ type Result struct {
 // It is exactly NewDetector, one Push of all of x, and Flush.
 //
 // Speed: with the default options, conditioning plus detection runs at
-// about 60 to 70 million samples per second on one core of a 2.6 GHz AMD
+// about 60 to 85 million samples per second on one core of a 2.6 GHz AMD
 // EPYC (BenchmarkDetect24h, a simulated 24 h lead at 250 and 500 Hz, -cpu 1,
-// measured while another job shared the machine), so a day at 500 Hz takes
-// about 0.7 s. Options outside the default filter shape (no or one notch, long
+// measured while another job shared the machine; 69 million per CPU-second
+// from a profile), so a day at 500 Hz takes about 0.5 to 0.7 s. Options outside the default filter shape (no or one notch, long
 // integration or refractory times) take a general path, about 50 million
 // samples per second.
 func Detect(x []float64, rateHz float64, opt Options) (Result, error) {
