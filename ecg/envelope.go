@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 
 	"github.com/tidalbeat/tidalbeat/internal/dsp"
 	"github.com/tidalbeat/tidalbeat/window"
@@ -60,13 +61,27 @@ func DetectEnvelope(x []float64, rateHz float64) (Result, error) {
 	return res, nil
 }
 
+// envScratch holds envelopeRun's per-run buffers, reused across calls
+// (WindowQuality runs the detector on every window).
+type envScratch struct {
+	y, env, ps, sel []float64
+}
+
+var envPool = sync.Pool{New: func() any { return new(envScratch) }}
+
 func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
 	n := len(x)
-	y := bp.FiltFilt(nil, x)
+	sc := envPool.Get().(*envScratch)
+	defer envPool.Put(sc)
+	sc.y = bp.FiltFilt(sc.y, x)
+	y := sc.y
 	half := max(1, int(math.Round(0.05*fs)))
-	env := make([]float64, n)
+	sc.env = growF(sc.env, n)
+	env := sc.env
 	// Centred moving mean of y^2 over 2*half+1 samples (prefix sums).
-	ps := make([]float64, n+1)
+	sc.ps = growF(sc.ps, n+1)
+	ps := sc.ps
+	ps[0] = 0
 	for i, v := range y {
 		ps[i+1] = ps[i] + v*v
 	}
@@ -74,9 +89,8 @@ func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
 		a, b := max(0, i-half), min(n, i+half+1)
 		env[i] = math.Sqrt(math.Max(0, ps[b]-ps[a]) / float64(b-a))
 	}
-	sorted := append([]float64(nil), env...)
-	sort.Float64s(sorted)
-	floor := 3 * sorted[n/2]
+	sc.sel = append(sc.sel[:0], env...)
+	floor := 3 * orderStat(sc.sel, n/2)
 	sep := int(math.Round(0.25 * fs))
 	// Local maxima, merged within sep keeping the larger.
 	var pk []int
@@ -105,11 +119,12 @@ func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
 	}
 	w := max(1, int(math.Round(0.06*fs)))
 	var out []Beat
+	var mbuf [8]float64
 	last := -sep
 	for _, p := range pk {
 		th := floor
 		if len(recent) > 0 {
-			m := append([]float64(nil), recent...)
+			m := append(mbuf[:0], recent...)
 			sort.Float64s(m)
 			th = math.Max(th, 0.4*m[len(m)/2])
 		}
@@ -148,4 +163,64 @@ func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
 		out = append(out, Beat{Sample: best + off, Time: float64(best+off) / fs, AmplitudemV: hi - lo})
 	}
 	return out
+}
+
+func growF(s []float64, n int) []float64 {
+	if cap(s) < n {
+		return make([]float64, n)
+	}
+	return s[:n]
+}
+
+// orderStat returns the k-th smallest value of s (0-based), the value
+// sort.Float64s(s) would leave at s[k], reordering s. It selects in
+// expected linear time (quickselect, median-of-three pivot); with a NaN in
+// s it sorts instead, so NaNs order first exactly as in sort.Float64s.
+func orderStat(s []float64, k int) float64 {
+	for _, v := range s {
+		if math.IsNaN(v) {
+			sort.Float64s(s)
+			return s[k]
+		}
+	}
+	lo, hi := 0, len(s)-1
+	for hi > lo {
+		if hi-lo < 16 {
+			sort.Float64s(s[lo : hi+1])
+			return s[k]
+		}
+		mid := lo + (hi-lo)/2
+		if s[mid] < s[lo] {
+			s[mid], s[lo] = s[lo], s[mid]
+		}
+		if s[hi] < s[lo] {
+			s[hi], s[lo] = s[lo], s[hi]
+		}
+		if s[hi] < s[mid] {
+			s[hi], s[mid] = s[mid], s[hi]
+		}
+		p := s[mid]
+		// Hoare partition: s[lo..j] <= p <= s[j+1..hi].
+		i, j := lo-1, hi+1
+		for {
+			i++
+			for s[i] < p {
+				i++
+			}
+			j--
+			for s[j] > p {
+				j--
+			}
+			if i >= j {
+				break
+			}
+			s[i], s[j] = s[j], s[i]
+		}
+		if k <= j {
+			hi = j
+		} else {
+			lo = j + 1
+		}
+	}
+	return s[k]
 }

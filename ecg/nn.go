@@ -434,28 +434,65 @@ func timeVarying(nn *NN, t, rr []float64, fix []Fix, o NNOptions) ([]float64, []
 // interpolation between order statistics (common practice).
 func rollingQD(x []float64, w int) []float64 {
 	out := make([]float64, len(x))
-	h := w / 2
-	buf := make([]float64, 0, w)
-	for i := range x {
-		lo, hi := max(0, i-h), min(len(x), i+h+1)
-		buf = append(buf[:0], x[lo:hi]...)
-		sort.Float64s(buf)
-		out[i] = (quantile(buf, 0.75) - quantile(buf, 0.25)) / 2
-	}
+	rollingSorted(x, w, func(i int, s []float64) {
+		out[i] = (quantile(s, 0.75) - quantile(s, 0.25)) / 2
+	})
 	return out
 }
 
 func rollingMedian(x []float64, w int) []float64 {
 	out := make([]float64, len(x))
-	h := w / 2
-	buf := make([]float64, 0, w)
-	for i := range x {
-		lo, hi := max(0, i-h), min(len(x), i+h+1)
-		buf = append(buf[:0], x[lo:hi]...)
-		sort.Float64s(buf)
-		out[i] = quantile(buf, 0.5)
-	}
+	rollingSorted(x, w, func(i int, s []float64) {
+		out[i] = quantile(s, 0.5)
+	})
 	return out
+}
+
+// rollingSorted calls fn(i, s) for every i with s the values of the centred
+// window x[max(0,i-w/2) : min(len(x),i+w/2+1)] in ascending order. The
+// window is kept sorted from one i to the next (binary-search insert and
+// delete), so each step costs O(w) moves instead of a sort; s is the same
+// multiset in the same order as sorting the window afresh. A NaN anywhere
+// falls back to sorting each window (sort.Float64s order, NaNs first).
+func rollingSorted(x []float64, w int, fn func(i int, s []float64)) {
+	h := w / 2
+	buf := make([]float64, 0, min(len(x), 2*h+1))
+	for _, v := range x {
+		if math.IsNaN(v) {
+			for i := range x {
+				lo, hi := max(0, i-h), min(len(x), i+h+1)
+				buf = append(buf[:0], x[lo:hi]...)
+				sort.Float64s(buf)
+				fn(i, buf)
+			}
+			return
+		}
+	}
+	insert := func(v float64) {
+		k := sort.SearchFloat64s(buf, v) // first index with buf[k] >= v
+		buf = append(buf, 0)
+		copy(buf[k+1:], buf[k:])
+		buf[k] = v
+	}
+	remove := func(v float64) {
+		k := sort.SearchFloat64s(buf, v) // buf[k] == v: v is in the window
+		copy(buf[k:], buf[k+1:])
+		buf = buf[:len(buf)-1]
+	}
+	for j := 0; j < min(len(x), h+1); j++ {
+		insert(x[j])
+	}
+	for i := range x {
+		if i > 0 {
+			if j := i - h - 1; j >= 0 {
+				remove(x[j])
+			}
+			if j := i + h; j < len(x) {
+				insert(x[j])
+			}
+		}
+		fn(i, buf)
+	}
 }
 
 // quantile of sorted s by linear interpolation (position p*(n-1)).
