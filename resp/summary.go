@@ -49,6 +49,7 @@ const (
 	colApneasObs
 	colApneasCen
 	colApneasMix
+	colHypDesat
 	colCoverage
 	colQuality
 	numCols
@@ -87,6 +88,7 @@ var summaryColumns = [numCols]string{
 	colApneasObs: "apneas_obstructive_n",
 	colApneasCen: "apneas_central_n",
 	colApneasMix: "apneas_mixed_n",
+	colHypDesat:  "hypopneas_desat3_n", // candidate hypopneas with >= 3 % SpO2 desaturation (AASM rule 1A's criterion); NaN without SpO2
 	colCoverage:  "resp_coverage_frac", // share of the window with valid band samples
 	colQuality:   "resp_quality_frac",  // share of the window's breaths without a quality flag
 }
@@ -136,6 +138,10 @@ type SummaryOptions struct {
 	// 0.2 when zero (common practice, methods reference 7: flat/clipped
 	// more than 20 % of the time).
 	MaxFlaggedFrac float64
+	// SpO2 says that the events were detected with an SpO2 series
+	// (EventOptions.SpO2), so hypopneas_desat3_n is defined; without it
+	// that column is NaN with the reason.
+	SpO2 bool
 }
 
 // Summarize computes the breathing features of window w from the breaths
@@ -192,12 +198,12 @@ func Summarize(w window.Window, breaths []Breath, events []Event, opt SummaryOpt
 		invalid = fmt.Sprintf("%.0f %% of breath time flagged, limit %.0f %%", 100*flaggedT/totalT, 100*maxFl)
 	}
 	if !w.Valid {
-		for _, c := range []int{colApneas, colHypopneas, colApneasObs, colApneasCen, colApneasMix} {
+		for _, c := range []int{colApneas, colHypopneas, colApneasObs, colApneasCen, colApneasMix, colHypDesat} {
 			s.reason[c] = invalid
 		}
 	} else {
 		lo := sort.Search(len(events), func(i int) bool { return events[i].Start >= w.Start })
-		var na, nh, no, nc, nm float64
+		var na, nh, no, nc, nm, nd float64
 		for i := lo; i < len(events) && events[i].Start < w.End; i++ {
 			e := events[i]
 			if e.Kind == EventApnea {
@@ -212,7 +218,15 @@ func Summarize(w window.Window, breaths []Breath, events []Event, opt SummaryOpt
 				}
 			} else {
 				nh++
+				if e.Rule1A {
+					nd++
+				}
 			}
+		}
+		if opt.SpO2 {
+			s.values[colHypDesat] = nd
+		} else {
+			s.reason[colHypDesat] = "no SpO2 channel: desaturation unknown"
 		}
 		s.values[colApneas], s.values[colHypopneas] = na, nh
 		s.values[colApneasObs], s.values[colApneasCen], s.values[colApneasMix] = no, nc, nm

@@ -186,3 +186,27 @@ func TestWindowStreamMatchesBatch(t *testing.T) {
 		}
 	}
 }
+
+// TestSummaryDesaturatingHypopneas: hypopneas_desat3_n counts the
+// hypopneas meeting the >= 3 % desaturation criterion of AASM rule 1A
+// (Berry et al. 2012) when events were scored with SpO2, and is NaN with a
+// reason without it.
+func TestSummaryDesaturatingHypopneas(t *testing.T) {
+	w := window.Window{Seq: 0, Start: 0, End: 60, Valid: true, Coverage: 1}
+	ev := []resp.Event{
+		{Kind: resp.EventHypopnea, Start: 5, End: 20, DesatPct: 4, Rule1A: true},
+		{Kind: resp.EventHypopnea, Start: 30, End: 45, DesatPct: 1},
+		{Kind: resp.EventApnea, Start: 50, End: 65, DesatPct: 6},
+	}
+	s := resp.Summarize(w, nil, ev, resp.SummaryOptions{SpO2: true})
+	if v, _ := s.Value("hypopneas_desat3_n"); v != 1 {
+		t.Errorf("with SpO2: %v desaturating hypopneas, want 1 (AASM rule 1A, Berry et al. 2012)", v)
+	}
+	if v, _ := s.Value("hypopneas_n"); v != 2 {
+		t.Errorf("%v hypopneas, want 2", v)
+	}
+	s = resp.Summarize(w, nil, ev, resp.SummaryOptions{})
+	if v, _ := s.Value("hypopneas_desat3_n"); !math.IsNaN(v) || !strings.Contains(s.Reason("hypopneas_desat3_n"), "SpO2") {
+		t.Errorf("without SpO2: %v (%q)", v, s.Reason("hypopneas_desat3_n"))
+	}
+}
