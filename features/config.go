@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"github.com/tidalbeat/tidalbeat/features/recording"
+	"github.com/tidalbeat/tidalbeat/resp"
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
@@ -82,6 +83,92 @@ type Config struct {
 	// LabelSpan is the span before each row time over which the label
 	// overlap fraction is measured (Step when zero).
 	LabelSpan time.Duration `json:"label_span_ns"`
+	// BreathCalibration says how the breathing family weights the two
+	// bands into a volume signal; the zero value applies none (equal
+	// weights, every volume in arbitrary units, litre columns empty).
+	BreathCalibration BreathCalibration `json:"breath_calibration"`
+}
+
+// BreathCalibration configures the breathing family's band calibration
+// (package resp, Calibration). At most one source of weights: known
+// Weights, or calibration from the recording (a QDC interval, reference
+// breaths in the annotations, or both). The zero value means no calibration.
+//
+// Reference-breath annotations (VrefAnnotations): an annotation whose Text
+// (or Code) reads "vref=<volume> L" (or "mL"; case and spaces free, for
+// example "vref=0.80 L") with a positive Duration spanning one breath of
+// known volume (spirometer, pneumotachograph or a fixed-volume bag). Each is
+// matched to the clean detected breath overlapping it most (at least half of
+// the shorter of the two); the matched breaths' band rises are fitted to the
+// volumes by least squares (resp.CalibrateAbsolute: both weights from
+// resp.MinTwoWeightRefs breaths, Chadha et al. 1982; with fewer, from two,
+// the QDC ratio of the QDC interval scaled by one volume factor). When too
+// few are matched the breathing reason says so and volumes stay in
+// arbitrary units (or in QDC's relative units when a QDC interval is given).
+// Such annotations also become label columns unless
+// Config.NoAnnotationLabels is set.
+//
+// The calibration is resolved once per recording, by breath detection with
+// equal weights on the samples from the earliest calibration span's start to
+// the latest one's end (plus CalibrationPadS on both sides); Extract and
+// Stream resolve it from the same samples, so they give identical rows.
+// ResolveBreathCalibration returns what was resolved (method, weights,
+// breaths used, residual, caveat) for a sidecar.
+type BreathCalibration struct {
+	// Weights are known weights (for example from a spirometer calibration
+	// of an earlier session) applied as they are: Litres says whether they
+	// give litres.
+	Weights *resp.Calibration `json:"weights,omitempty"`
+	// QDC is a span of natural breathing in one posture (s from the
+	// recording start) for qualitative diagnostic calibration (Sackner et
+	// al. 1989): relative weights only, volumes in arbitrary units, with
+	// resp.QDCCaveat carried into the breathing reason and the sidecar.
+	QDC *window.Interval `json:"qdc,omitempty"`
+	// QDCOptions configures the QDC breath selection (resp defaults when
+	// zero).
+	QDCOptions resp.QDCOptions `json:"qdc_options"`
+	// VrefAnnotations fits litre weights to the reference breaths marked in
+	// the recording's annotations (convention above).
+	VrefAnnotations bool `json:"vref_annotations,omitempty"`
+}
+
+// CalibrationPadS is the signal taken before and after the calibration
+// spans when breaths are detected for calibration (s): one long resting
+// breath, so breaths at the spans' edges are complete (our choice).
+const CalibrationPadS = 15
+
+// MaxStreamCalibrationS is the latest end of a calibration span a Stream
+// accepts (s from the start): the Stream holds the band samples until the
+// spans have passed, then resolves the calibration and replays them, so
+// this bounds its memory (our choice: one hour, 29 MB at 500 Hz).
+const MaxStreamCalibrationS = 3600
+
+// empty reports whether no calibration is asked for.
+func (b BreathCalibration) empty() bool {
+	return b.Weights == nil && b.QDC == nil && !b.VrefAnnotations
+}
+
+func (b BreathCalibration) validate() error {
+	if b.Weights != nil {
+		if b.QDC != nil || b.VrefAnnotations {
+			return fmt.Errorf("features: breath calibration: known weights exclude QDC and reference breaths: %w", ErrConfig)
+		}
+		w := *b.Weights
+		for _, v := range []float64{w.RibWeight, w.AbdWeight} {
+			if !isFinite(v) || v < 0 {
+				return fmt.Errorf("features: breath calibration weights %v, %v: %w", w.RibWeight, w.AbdWeight, ErrConfig)
+			}
+		}
+		if w.RibWeight == 0 && w.AbdWeight == 0 {
+			return fmt.Errorf("features: breath calibration weights both zero: %w", ErrConfig)
+		}
+	}
+	if q := b.QDC; q != nil {
+		if !isFinite(q.Start) || !isFinite(q.End) || q.Start < 0 || !(q.End > q.Start) {
+			return fmt.Errorf("features: QDC interval [%v, %v) s: %w", q.Start, q.End, ErrConfig)
+		}
+	}
+	return nil
 }
 
 // Resolved returns the configuration with every zero value replaced by its
@@ -111,6 +198,14 @@ func (c Config) withDefaults() (Config, error) {
 	}
 	if c.LabelSpan < 0 {
 		return c, fmt.Errorf("features: label span %v: %w", c.LabelSpan, ErrConfig)
+	}
+	if err := c.BreathCalibration.validate(); err != nil {
+		return c, err
+	}
+	if w := c.BreathCalibration.Weights; w != nil && w.Method == "" {
+		k := *w
+		k.Method = "known"
+		c.BreathCalibration.Weights = &k
 	}
 	for _, f := range c.Families {
 		if f != FamilyHRV && f != FamilyBreathing && f != FamilyActivity {
