@@ -64,7 +64,7 @@ func DetectEnvelope(x []float64, rateHz float64) (Result, error) {
 // envScratch holds envelopeRun's per-run buffers, reused across calls
 // (WindowQuality runs the detector on every window).
 type envScratch struct {
-	y, env, ps, sel []float64
+	y, ext, env, ps, sel []float64
 }
 
 var envPool = sync.Pool{New: func() any { return new(envScratch) }}
@@ -73,7 +73,7 @@ func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
 	n := len(x)
 	sc := envPool.Get().(*envScratch)
 	defer envPool.Put(sc)
-	sc.y = bp.FiltFilt(sc.y, x)
+	sc.y, sc.ext = filtFilt(bp, sc.y, sc.ext, x)
 	y := sc.y
 	half := max(1, int(math.Round(0.05*fs)))
 	sc.env = growF(sc.env, n)
@@ -223,4 +223,49 @@ func orderStat(s []float64, k int) float64 {
 		}
 	}
 	return s[k]
+}
+
+// filtFilt is dsp.Cascade.FiltFilt(dst, x) on a reusable extension buffer:
+// the same odd reflection of 3*(2*sections+1) samples at each end, the same
+// steady-state reset (dsp.Filter.Reset) before each pass, the same
+// transposed direct form II updates in the same order, so the same numbers
+// to the bit; the biquads run one after the other over the whole buffer
+// with their state in registers. x must hold at least 2 samples.
+func filtFilt(c dsp.Cascade, dst, ext, x []float64) ([]float64, []float64) {
+	n := len(x)
+	dst = growF(dst, n)
+	pad := min(3*(2*len(c)+1), n-1)
+	ext = growF(ext, n+2*pad)
+	for i := 0; i < pad; i++ {
+		ext[i] = 2*x[0] - x[pad-i]
+		ext[n+pad+i] = 2*x[n-1] - x[n-2-i]
+	}
+	copy(ext[pad:], x)
+	pass := func() {
+		v := ext[0]
+		for _, s := range c {
+			// Steady state for the constant input v (dsp.Filter.Reset).
+			g := (s.B0 + s.B1 + s.B2) / (1 + s.A1 + s.A2)
+			y := g * v
+			z1 := s.B2*v - s.A2*y
+			z0 := y - s.B0*v
+			v = y
+			b0, b1, b2, a1, a2 := s.B0, s.B1, s.B2, s.A1, s.A2
+			for i, u := range ext {
+				out := b0*u + z0
+				z0 = b1*u - a1*out + z1
+				z1 = b2*u - a2*out
+				ext[i] = out
+			}
+		}
+	}
+	pass()
+	for i, j := 0, len(ext)-1; i < j; i, j = i+1, j-1 {
+		ext[i], ext[j] = ext[j], ext[i]
+	}
+	pass()
+	for i := 0; i < n; i++ {
+		dst[i] = ext[len(ext)-1-pad-i]
+	}
+	return dst, ext
 }

@@ -3,8 +3,10 @@ package ecg
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"github.com/tidalbeat/tidalbeat/internal/dsp"
+	"gonum.org/v1/gonum/dsp/fourier"
 )
 
 // QualityOptions configures WindowQuality. Zero values mean the defaults.
@@ -159,7 +161,8 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 		reasons = append(reasons, "longest valid run under 2 s: no spectrum")
 	default:
 		seg := min(be-bs, int(4*rateHz))
-		f, p, err := dsp.Welch(x[bs:be], rateHz, dsp.WelchOptions{Segment: seg})
+		sc := welchPool.Get().(*welchScratch)
+		f, p, err := sc.welch(x[bs:be], rateHz, seg)
 		if err == nil {
 			band := func(lo, hi float64) float64 {
 				s := 0.0
@@ -177,6 +180,7 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 				q.BasSQI = 1 - band(0, 1)/d
 			}
 		}
+		welchPool.Put(sc)
 	}
 	// bSQI against the second detector.
 	env, err := DetectEnvelope(x, rateHz)
@@ -208,4 +212,78 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 // both are empty.
 func BeatAgreement(s Score) float64 {
 	return ratio(s.TP, s.TP+s.FN+s.FP)
+}
+
+// welchScratch is the quality spectrum's workspace, reused from window to
+// window: the FFT plan and Hann window for the last segment length and the
+// segment, coefficient and spectrum buffers.
+type welchScratch struct {
+	seg       int
+	fft       *fourier.FFT
+	hann      []float64
+	wss       float64
+	buf, tmp  []float64
+	coef      []complex128
+	freq, psd []float64
+}
+
+var welchPool = sync.Pool{New: func() any { return new(welchScratch) }}
+
+// welch is dsp.Welch(x, fs, dsp.WelchOptions{Segment: seg}) (periodic Hann
+// segments, half overlap, NFFT = seg, mean removed per segment, one-sided
+// density scaling) with the same operations in the same order, so the same
+// numbers to the bit, on reused buffers. x must be finite with len(x) >= seg
+// >= 2; the returned slices are valid until the scratch is reused.
+func (w *welchScratch) welch(x []float64, fsHz float64, seg int) (freqs, psd []float64, err error) {
+	if len(x) < 2 || seg < 2 || seg > len(x) {
+		return dsp.Welch(x, fsHz, dsp.WelchOptions{Segment: seg})
+	}
+	nfft := seg
+	if w.seg != seg || w.fft == nil {
+		w.seg = seg
+		w.hann = dsp.HannPeriodic(seg)
+		w.wss = 0
+		for _, v := range w.hann {
+			w.wss += v * v
+		}
+		w.fft = fourier.NewFFT(nfft)
+		w.buf = make([]float64, nfft)
+		w.tmp = make([]float64, seg)
+		w.coef = make([]complex128, nfft/2+1)
+		w.psd = make([]float64, nfft/2+1)
+		w.freq = make([]float64, nfft/2+1)
+	}
+	ov := seg / 2
+	step := seg - ov
+	nseg := (len(x)-seg)/step + 1
+	psd, buf, tmp, win := w.psd, w.buf, w.tmp, w.hann
+	clear(psd)
+	for s := 0; s < nseg; s++ {
+		part := x[s*step : s*step+seg]
+		var m float64
+		for _, v := range part {
+			m += v
+		}
+		m /= float64(seg)
+		for i, v := range part {
+			tmp[i] = v - m
+		}
+		for i, v := range tmp {
+			buf[i] = v * win[i]
+		}
+		w.coef = w.fft.Coefficients(w.coef, buf)
+		for k, c := range w.coef {
+			psd[k] += real(c)*real(c) + imag(c)*imag(c)
+		}
+	}
+	norm := fsHz * w.wss * float64(nseg)
+	freqs = w.freq
+	for k := range psd {
+		psd[k] /= norm
+		if k > 0 && !(nfft%2 == 0 && k == nfft/2) {
+			psd[k] *= 2
+		}
+		freqs[k] = float64(k) * fsHz / float64(nfft)
+	}
+	return freqs, psd, nil
 }
