@@ -4,10 +4,12 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -17,6 +19,7 @@ import (
 
 	"github.com/tidalbeat/tidalbeat/features"
 	"github.com/tidalbeat/tidalbeat/features/recording"
+	"github.com/tidalbeat/tidalbeat/resp"
 	"github.com/tidalbeat/tidalbeat/window"
 )
 
@@ -52,6 +55,15 @@ table with a record column, or with -partition into a Hive-partitioned
 Parquet dataset DIR/record=<name>/part-0.parquet. A record that fails is
 reported and the others continue; the exit status is then 1.
 
+Breathing volumes are in arbitrary units (the _au columns) unless the bands
+are calibrated to litres: -rib-weight and -abd-weight give known weights
+(litres per band unit, e.g. from a spirometer calibration of an earlier
+session); -vref-annotations fits both weights by least squares to reference
+breaths annotated "vref=<volume> L" with a duration spanning the breath (10
+or more; with -qdc, 2 or more suffice); -qdc START,END alone gives relative
+(QDC) weights, still in arbitrary units. The calibration applied to each
+record is written to the sidecar's notes.
+
 flags:
 `
 
@@ -73,6 +85,10 @@ func runFeatures(args []string, stdout, stderr io.Writer) error {
 	start := fs.String("start", "", "UTC start (RFC 3339) for records whose files give none")
 	quiet := fs.Bool("q", false, "no progress bar")
 	noQ := fs.Bool("no-ecg-quality", false, "leave out the ECG quality columns (faster)")
+	ribW := fs.Float64("rib-weight", 0, "known rib-cage band weight, `L per band unit` (with -abd-weight)")
+	abdW := fs.Float64("abd-weight", 0, "known abdominal band weight, `L per band unit` (with -rib-weight)")
+	qdc := fs.String("qdc", "", "QDC calibration over `START,END` seconds from the record start (natural breathing, one posture)")
+	vref := fs.Bool("vref-annotations", false, "calibrate to litres from reference breaths annotated \"vref=<volume> L\" (with a duration)")
 	roles := roleFlags{}
 	fs.Var(roles, "role", "set a channel role, `CHANNEL=ROLE` (ecg, rib_cage, abdomen, acc_x, acc_y, acc_z, unknown); repeatable")
 	fs.Usage = func() {
@@ -99,6 +115,11 @@ func runFeatures(args []string, stdout, stderr io.Writer) error {
 	}
 	cfg := features.Config{Step: *step, HRVWindow: *hrvW, BreathingWindow: *brW, ActivityWindow: *actW,
 		MinCoverage: *minCov, BeatsAnnotator: *beats, Roles: roles, NoECGQuality: *noQ}
+	if bc, err := breathCalFlags(*ribW, *abdW, *qdc, *vref); err != nil {
+		return err
+	} else {
+		cfg.BreathCalibration = bc
+	}
 	switch *anchor {
 	case "epoch":
 		cfg.Anchor = window.AnchorEpoch
@@ -164,9 +185,15 @@ func runFeatures(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		meta := features.Meta{Config: resolved, Records: names, Inputs: inputs, Failed: failed}
-		for _, t := range tables {
-			if !t.StartKnown {
-				meta.Notes = append(meta.Notes, t.Record+": start time unknown: time_utc is elapsed time counted from 1970-01-01T00:00:00Z")
+		for _, r := range res {
+			if r.err != nil {
+				continue
+			}
+			if !r.tab.StartKnown {
+				meta.Notes = append(meta.Notes, r.tab.Record+": start time unknown: time_utc is elapsed time counted from 1970-01-01T00:00:00Z")
+			}
+			if r.calib != "" {
+				meta.Notes = append(meta.Notes, r.tab.Record+": "+r.calib)
 			}
 		}
 		if err := writeTables(*out, *partition, tables, meta, stdout); err != nil {
@@ -184,6 +211,7 @@ type result struct {
 	path   string
 	tab    *features.Table
 	inputs []features.InputFile
+	calib  string // the breathing calibration applied, when one was asked for
 	err    error
 }
 
@@ -248,7 +276,40 @@ func extractOne(path string, cfg features.Config, ropt recording.Options) (r res
 		return r
 	}
 	r.tab, r.err = features.Extract(rec, cfg)
+	if r.err == nil && cfg.BreathCalibration != (features.BreathCalibration{}) {
+		c, err := features.ResolveBreathCalibration(rec, cfg)
+		if err != nil {
+			r.tab, r.err = nil, err
+			return r
+		}
+		r.calib = c.String()
+	}
 	return r
+}
+
+// breathCalFlags turns the calibration flags into the configuration.
+func breathCalFlags(rib, abd float64, qdc string, vref bool) (features.BreathCalibration, error) {
+	var bc features.BreathCalibration
+	if rib != 0 || abd != 0 {
+		if !(rib > 0) || !(abd > 0) || math.IsInf(rib, 0) || math.IsInf(abd, 0) {
+			return bc, fmt.Errorf("%w: -rib-weight %v -abd-weight %v: want both, positive", errUsage, rib, abd)
+		}
+		if qdc != "" || vref {
+			return bc, fmt.Errorf("%w: known weights (-rib-weight, -abd-weight) exclude -qdc and -vref-annotations", errUsage)
+		}
+		bc.Weights = &resp.Calibration{RibWeight: rib, AbdWeight: abd, Litres: true, Method: "known"}
+	}
+	if qdc != "" {
+		a, b, ok := strings.Cut(qdc, ",")
+		lo, err1 := strconv.ParseFloat(strings.TrimSpace(a), 64)
+		hi, err2 := strconv.ParseFloat(strings.TrimSpace(b), 64)
+		if !ok || err1 != nil || err2 != nil || !(lo >= 0) || !(hi > lo) || math.IsInf(hi, 0) {
+			return bc, fmt.Errorf("%w: -qdc %q: want START,END seconds with 0 <= START < END", errUsage, qdc)
+		}
+		bc.QDC = &window.Interval{Start: lo, End: hi}
+	}
+	bc.VrefAnnotations = vref
+	return bc, nil
 }
 
 // expandRecords turns the arguments into record paths: files as given,

@@ -298,3 +298,133 @@ func TestFeaturesLabelsAndRoles(t *testing.T) {
 		t.Errorf("missing labels file: exit %d", code)
 	}
 }
+
+// writeBreathEDF writes an EDF+ file with simulated rib-cage and abdominal
+// bands (internal/sim.BreathSimulate: 90 s of calibration breaths, then
+// quiet breathing) and, for the first nRef calibration breaths, an
+// annotation "vref=<true volume> L" spanning the breath. It returns the
+// simulator's true minute ventilation of the quiet part (L/min).
+func writeBreathEDF(t *testing.T, path string, nRef int) float64 {
+	t.Helper()
+	b, err := sim.BreathSimulate(sim.BreathConfig{RateHz: 50, Seed: 3, Segments: []sim.BreathSegment{
+		{Label: "calibration", DurationS: 90, RatePerMin: 10, TidalL: 0.8, TidalCV: 0.25, RibShareSD: 0.1},
+		{Label: "quiet", DurationS: 300, RatePerMin: 14, TidalL: 0.5, TidalCV: 0.1, RibShareSD: 0.05},
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := &recording.Recording{Name: "b", Start: time.Date(2026, 6, 2, 9, 0, 0, 0, time.UTC), StartKnown: true,
+		Channels: []recording.Channel{{Name: "rib", Unit: "mV", RateHz: 50, Samples: b.Rib}, {Name: "abd", Unit: "mV", RateHz: 50, Samples: b.Abd}}}
+	var sv, st float64
+	for _, tb := range b.Breaths {
+		if tb.Onset < 90 && len(rec.Annotations) < nRef && tb.Onset > 2 && !tb.Motion {
+			rec.Annotations = append(rec.Annotations, recording.Annotation{Time: tb.Onset, Duration: tb.EndExp - tb.Onset, Text: "vref=" + strconv.FormatFloat(tb.TidalL, 'f', 3, 64) + " L", Sample: -1})
+		}
+		if tb.Onset >= 120 && tb.Onset < 360 {
+			sv += tb.TidalL
+			st += tb.EndExp - tb.Onset + tb.PauseS
+		}
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if err := recording.WriteEDF(f, rec, recording.EDFWriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	return 60 * sv / st
+}
+
+// TestFeaturesVrefAnnotations runs `tidalbeat features REC.edf
+// -vref-annotations`: twelve annotated reference breaths give litre
+// columns whose minute ventilation over 120-360 s is within 10 % of the
+// simulator ground truth (least-squares two-weight fit, Chadha et al. 1982;
+// tolerance our choice), the sidecar notes record the calibration, and
+// without the flag (or with -qdc only) ve_l_min stays empty.
+func TestFeaturesVrefAnnotations(t *testing.T) {
+	dir := t.TempDir()
+	edf := filepath.Join(dir, "b.edf")
+	wantVE := writeBreathEDF(t, edf, 12)
+	run1 := func(out string, extra ...string) ([]string, [][]string) {
+		t.Helper()
+		var o, e bytes.Buffer
+		args := append([]string{"features", edf, "-families", "breathing", "-o", out}, extra...)
+		if code := run(args, &o, &e); code != 0 {
+			t.Fatalf("%v: exit %d\n%s", args, code, e.String())
+		}
+		return readFeatCSV(t, out)
+	}
+	head, rows := run1(filepath.Join(dir, "cal.csv"), "-vref-annotations")
+	ci, ti := featCol(head, "ve_l_min"), featCol(head, "t_s")
+	if ci < 0 || ti < 0 {
+		t.Fatalf("columns %v", head)
+	}
+	var sum float64
+	var n int
+	for _, r := range rows {
+		ts, _ := strconv.ParseFloat(r[ti], 64)
+		if ts-60 >= 120 && ts <= 360 {
+			v, err := strconv.ParseFloat(r[ci], 64)
+			if err != nil {
+				t.Fatalf("t %v: ve_l_min %q", ts, r[ci])
+			}
+			sum += v
+			n++
+		}
+	}
+	if n < 5 || math.Abs(sum/float64(n)-wantVE) > 0.1*wantVE {
+		t.Errorf("mean ve_l_min %.2f over %d rows, simulator ground truth %.2f L/min", sum/float64(n), n, wantVE)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "cal.csv.meta.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var meta struct {
+		Notes  []string
+		Config struct {
+			BreathCalibration struct {
+				VrefAnnotations bool `json:"vref_annotations"`
+			} `json:"breath_calibration"`
+		}
+	}
+	if err := json.Unmarshal(b, &meta); err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("mean ve_l_min %.3f over %d rows, simulator %.3f L/min; notes %q", sum/float64(n), n, wantVE, meta.Notes)
+	if !meta.Config.BreathCalibration.VrefAnnotations || len(meta.Notes) == 0 || !strings.Contains(strings.Join(meta.Notes, "\n"), "two-weight") {
+		t.Errorf("sidecar does not record the calibration: %s", b)
+	}
+	for _, extra := range [][]string{nil, {"-qdc", "100,380"}} {
+		head, rows = run1(filepath.Join(dir, "au.csv"), extra...)
+		ci, ai := featCol(head, "ve_l_min"), featCol(head, "ve_au_min")
+		au := 0
+		for _, r := range rows {
+			if r[ci] != "" {
+				t.Fatalf("%v: ve_l_min %q without absolute calibration", extra, r[ci])
+			}
+			if r[ai] != "" {
+				au++
+			}
+		}
+		if au < 5 {
+			t.Errorf("%v: only %d rows with ve_au_min", extra, au)
+		}
+	}
+}
+
+func TestFeaturesCalibrationFlagErrors(t *testing.T) {
+	for _, args := range [][]string{
+		{"-rib-weight", "0.6"},
+		{"-rib-weight", "0.6", "-abd-weight", "-1"},
+		{"-rib-weight", "0.6", "-abd-weight", "1", "-vref-annotations"},
+		{"-qdc", "10"},
+		{"-qdc", "50,20"},
+		{"-qdc", "a,b"},
+	} {
+		var o, e bytes.Buffer
+		if code := run(append([]string{"features", "x.edf"}, args...), &o, &e); code != 2 {
+			t.Errorf("%v: exit %d (%s), want 2 for a usage error", args, code, e.String())
+		}
+	}
+}
