@@ -155,6 +155,9 @@ func TestBreathingUncalibrated(t *testing.T) {
 		// Three reference breaths and no QDC interval: fewer than the ten a
 		// two-weight fit needs (resp.MinTwoWeightRefs).
 		{"too few references", BreathCalibration{VrefAnnotations: true}, "3 of 3 reference breaths matched, need 10"},
+		// Known weights without Litres (an earlier relative calibration)
+		// are applied, but the volumes remain arbitrary units.
+		{"AU weights", BreathCalibration{Weights: &resp.Calibration{RibWeight: 0.6, AbdWeight: 1}}, "not in litres"},
 	} {
 		tab, err := Extract(rec, Config{Families: []string{FamilyBreathing}, BreathCalibration: tc.bc})
 		if err != nil {
@@ -367,4 +370,61 @@ func sum(x []float64) float64 {
 		}
 	}
 	return s
+}
+
+// TestVrefSpans checks the reference-annotation convention: "vref=<volume>
+// L" or "mL", case and spaces free, with a positive duration.
+func TestVrefSpans(t *testing.T) {
+	anns := []recording.Annotation{
+		{Time: 10, Duration: 4, Text: "vref=0.80 L"},
+		{Time: 20, Duration: 4, Text: " VREF = 750 mL "},
+		{Time: 30, Duration: 4, Code: "vref=1"},
+		{Time: 40, Duration: 0, Text: "vref=0.5 L"},   // no span: unusable
+		{Time: 50, Duration: 4, Text: "vref=-1 L"},    // not a volume: ignored
+		{Time: 60, Duration: 4, Text: "vref=0 L"},     // zero: unusable
+		{Time: 70, Duration: 4, Text: "vref=0.5 gal"}, // unknown unit: ignored
+		{Time: 80, Duration: 4, Text: "rest"},
+	}
+	got, note := vrefSpans(anns, BreathCalibration{VrefAnnotations: true})
+	want := []vrefSpan{{10, 14, 0.8}, {20, 24, 0.75}, {30, 34, 1}}
+	if len(got) != len(want) {
+		t.Fatalf("spans %v, want %v", got, want)
+	}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Errorf("span %d: %v, want %v", i, got[i], want[i])
+		}
+	}
+	if !strings.Contains(note, "2 reference annotations unusable") {
+		t.Errorf("note %q", note)
+	}
+	if got, _ := vrefSpans(anns, BreathCalibration{}); got != nil {
+		t.Errorf("spans without VrefAnnotations: %v", got)
+	}
+}
+
+// ExampleResolveBreathCalibration calibrates simulated bands
+// (internal/sim.BreathSimulate) from twelve reference breaths marked in the
+// annotations, as a spirometer session would mark them.
+func ExampleResolveBreathCalibration() {
+	b, _ := sim.BreathSimulate(sim.BreathConfig{RateHz: 50, Seed: 21, Segments: []sim.BreathSegment{
+		{Label: "calibration", DurationS: 120, RatePerMin: 10, TidalL: 0.8, TidalCV: 0.25, RibShareSD: 0.1},
+		{Label: "quiet", DurationS: 120, RatePerMin: 14, TidalL: 0.5},
+	}})
+	rec := &recording.Recording{Name: "example", Channels: []recording.Channel{
+		{Name: "rib", RateHz: 50, Samples: b.Rib, Role: recording.RoleRibCage},
+		{Name: "abd", RateHz: 50, Samples: b.Abd, Role: recording.RoleAbdomen},
+	}}
+	for _, tb := range b.Breaths[1:13] {
+		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: tb.Onset, Duration: tb.EndExp - tb.Onset, Text: fmt.Sprintf("vref=%.2f L", tb.TidalL)})
+	}
+	cfg := Config{BreathCalibration: BreathCalibration{VrefAnnotations: true}}
+	cal, err := ResolveBreathCalibration(rec, cfg)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	c := cal.Calibration
+	fmt.Println(c.Method, c.VolumeUnit(), c.References)
+	// Output: two-weight L 12
 }

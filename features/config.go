@@ -114,6 +114,18 @@ type Config struct {
 // Stream resolve it from the same samples, so they give identical rows.
 // ResolveBreathCalibration returns what was resolved (method, weights,
 // breaths used, residual, caveat) for a sidecar.
+//
+// Streaming: with known Weights (or none) breaths are detected from the
+// first sample. A calibration from the recording needs its spans before the
+// data it calibrates: the reference annotations must be in the header given
+// to NewStream, the Stream holds the band samples (and so the breathing
+// rows) until the bands have been pushed CalibrationPadS past the last
+// span, then resolves the weights and replays the held samples; NewStream
+// refuses spans ending after MaxStreamCalibrationS. With an SpO2 channel
+// (recording.RoleSpO2, used for the desaturation criterion of the candidate
+// hypopneas, column hypopneas_desat3_n) a breathing window is computed once
+// SpO2 has also been pushed 150 s past its end (the 90-s event context and
+// 60 s for resp's desaturation baseline and lag), so push every channel.
 type BreathCalibration struct {
 	// Weights are known weights (for example from a spirometer calibration
 	// of an earlier session) applied as they are: Litres says whether they

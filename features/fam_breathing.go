@@ -182,11 +182,15 @@ func (r BreathCalibrationResult) reason() string {
 	if r.Note != "" {
 		s = r.Note + "; "
 	}
-	if r.Calibration.Method == "qdc" {
+	switch r.Calibration.Method {
+	case "qdc":
 		return s + "relative (QDC) calibration only: volumes in arbitrary units (see the _au columns); " + resp.QDCCaveat
-	}
-	if s == "" {
-		return ""
+	case "none", "":
+		if s == "" {
+			return ""
+		}
+	default:
+		return s + "weights (" + r.Calibration.Method + ") not in litres: volumes in arbitrary units (see the _au columns)"
 	}
 	return s + "volumes in arbitrary units (see the _au columns)"
 }
