@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -57,7 +58,9 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	a, err := report.Analyze(rec, report.Options{})
+	// Litres from the bag breaths marked "vref=1.00 L" at rest.
+	cfg := features.Config{BreathCalibration: features.BreathCalibration{VrefAnnotations: true}}
+	a, err := report.Analyze(rec, report.Options{Features: cfg})
 	if err != nil {
 		return err
 	}
@@ -73,7 +76,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
-		meta := features.Meta{Records: []string{rec.Name}, Columns: cols, Inputs: inputs,
+		meta := features.Meta{Records: []string{rec.Name}, Columns: cols, Inputs: inputs, Config: cfg,
 			Notes: []string{fmt.Sprintf("built-in simulated recording (internal/sim DaySimulate, seed %d)", *seed)}}
 		if err := features.WriteSidecar(p, meta); err != nil {
 			return err
@@ -103,7 +106,7 @@ func demoRecording(d *sim.DayRecording) *recording.Recording {
 		rec.Channels = append(rec.Channels, recording.Channel{Name: s.Name, Unit: s.Unit, RateHz: s.RateHz,
 			Samples: s.Samples, Gaps: gaps, Role: recording.GuessRole(s.Name, s.Unit)})
 	}
-	for _, l := range d.Labels() {
+	for _, l := range append(d.Labels(), d.ReferenceBreaths()...) {
 		rec.Annotations = append(rec.Annotations, recording.Annotation{Time: l.StartS, Duration: l.EndS - l.StartS, Sample: -1, Text: l.Text, Annotator: "sim"})
 	}
 	return rec
@@ -145,13 +148,15 @@ func printDemoSummary(w io.Writer, seed uint64, d *sim.DayRecording, a *report.A
 	fmt.Fprintf(w, "beats: %d detected; %d simulated (%d inside the %.0f s lead-off gap)\n",
 		len(a.RPeaksS), len(tr.Beats), hidden, totalLen(tr.LeadOff))
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
-	fmt.Fprintln(tw, "segment\tHR found\tsimulated (beats/min)\tbreaths/min found\tsimulated\tsteps found\tsimulated")
+	fmt.Fprintln(tw, "segment\tHR found\tsimulated (beats/min)\tbreaths/min found\tsimulated\tVE found\tsimulated (L/min)\tsteps found\tsimulated")
 	var stepsFound float64
 	for _, s := range tr.Segments {
 		steps, _ := a.StepsIn(s.StartS, s.EndS)
 		stepsFound += steps
-		fmt.Fprintf(tw, "%s\t%.1f\t%.1f\t%.1f\t%.1f\t%.0f\t%d\n", s.Label, a.MeanHR(s.StartS, s.EndS), tr.MeanHR(s.StartS, s.EndS),
-			a.BreathRate(s.StartS, s.EndS), tr.BreathRate(s.StartS, s.EndS), steps, tr.StepsIn(s.StartS, s.EndS))
+		fmt.Fprintf(tw, "%s\t%.1f\t%.1f\t%.1f\t%.1f\t%.1f\t%.1f\t%.0f\t%d\n", s.Label, a.MeanHR(s.StartS, s.EndS), tr.MeanHR(s.StartS, s.EndS),
+			a.BreathRate(s.StartS, s.EndS), tr.BreathRate(s.StartS, s.EndS),
+			tableMean(a.Table, "ve_l_min", features.DefaultBreathingWindow.Seconds(), s.StartS, s.EndS), tr.Ventilation(s.StartS, s.EndS),
+			steps, tr.StepsIn(s.StartS, s.EndS))
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "steps: %.0f found in the feature table, %d simulated\n", stepsFound, len(tr.Steps))
@@ -183,6 +188,25 @@ func printDemoSummary(w io.Writer, seed uint64, d *sim.DayRecording, a *report.A
 		fmt.Fprintf(w, "wrote %s\n", p)
 	}
 	fmt.Fprintln(w, "Research software, not a medical device.")
+}
+
+// tableMean is the mean of a table column over the rows whose window
+// (windowS long, ending at the row time) lies inside [start, end); NaN when
+// none has a value.
+func tableMean(t *features.Table, col string, windowS, start, end float64) float64 {
+	v := t.Float(col)
+	var sum float64
+	n := 0
+	for i, r := range t.Rows {
+		if v != nil && r.Offset-windowS >= start && r.Offset <= end && !math.IsNaN(v[i]) {
+			sum += v[i]
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN()
+	}
+	return sum / float64(n)
 }
 
 // overlapping returns the first candidate event overlapping the interval.

@@ -127,6 +127,17 @@ var DayApneas = []DayInterval{
 // during the fourth hard repeat.
 var DayLeadOff = DayInterval{StartS: 2260, EndS: 2285}
 
+// DayBagCalibration is when, at rest, the runner breathes through a
+// fixed-volume calibration bag of DayBagL: every breath then moves exactly
+// that volume while the rib-cage share varies, the reference for an
+// absolute band calibration (methods: least squares against reference
+// volumes, common practice) and the constant-volume case where QDC is exact
+// (Sackner et al. 1989; De Groote et al. 2001).
+var DayBagCalibration = DayInterval{StartS: 60, EndS: 180}
+
+// DayBagL is the calibration bag's volume, L.
+const DayBagL = 1.0
+
 // DayLeftSideFrom is when the napper rolls onto the left side (s).
 const DayLeftSideFrom = 5300.0
 
@@ -201,6 +212,18 @@ func (tr *DayTruth) BreathRate(start, end float64) float64 {
 		return math.NaN()
 	}
 	return 60 / (sum / float64(n))
+}
+
+// Ventilation returns the true minute ventilation (L/min) over [start, end):
+// 60 times the volume of the breaths starting in it over its length.
+func (tr *DayTruth) Ventilation(start, end float64) float64 {
+	var v float64
+	for _, b := range tr.Breaths {
+		if b.OnsetS >= start && b.OnsetS < end {
+			v += b.TidalL
+		}
+	}
+	return 60 * v / (end - start)
 }
 
 // StepsIn counts the true steps in [start, end).
@@ -305,6 +328,9 @@ func dayBreaths(k dayKinetics, apneas []DayInterval, dur float64, rng *rand.Rand
 		duty := 0.42 + 0.08*math.Min(1, math.Max(0, (br-13)/35))
 		vt := at(k.vt, t) * (1 + 0.1*rng.NormFloat64())
 		vt = math.Max(vt, 0.15)
+		if t >= DayBagCalibration.StartS && t < DayBagCalibration.EndS {
+			vt = DayBagL // breaths through the fixed-volume bag
+		}
 		rib := 0.4 // upright: about 40 % rib cage (common practice)
 		if k.posture[int(t)] != DayUpright {
 			rib = 0.3 // lying: breathing shifts toward the abdomen (common practice)
@@ -554,5 +580,18 @@ func (d *DayRecording) Labels() []DayLabel {
 		out = append(out, DayLabel{Text: "obstructive apnea", StartS: a.StartS, EndS: a.EndS})
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].StartS < out[j].StartS })
+	return out
+}
+
+// ReferenceBreaths returns one label per breath taken wholly inside the bag
+// calibration, reading "vref=1.00 L" (the convention of the feature
+// extractor's reference-breath annotations).
+func (d *DayRecording) ReferenceBreaths() []DayLabel {
+	var out []DayLabel
+	for _, b := range d.Truth.Breaths {
+		if b.OnsetS >= DayBagCalibration.StartS && b.EndS <= DayBagCalibration.EndS && !b.Obstructed {
+			out = append(out, DayLabel{Text: fmt.Sprintf("vref=%.2f L", b.TidalL), StartS: b.OnsetS, EndS: b.EndS})
+		}
+	}
 	return out
 }
