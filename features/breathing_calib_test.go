@@ -271,7 +271,8 @@ func TestBreathingQDCPlusFewRefs(t *testing.T) {
 }
 
 // TestBreathingCalibratedStreamEqualsBatch: with reference-breath
-// calibration, known weights, and an SpO2 channel, Stream rows equal
+// calibration, known weights, QDC plus references, a QDC span resolved only
+// at Close, and an SpO2 channel, Stream rows equal
 // Extract rows exactly for random chunkings (the house rule: one core).
 func TestBreathingCalibratedStreamEqualsBatch(t *testing.T) {
 	rec, b := calibRecording(t, 12, true)
@@ -279,14 +280,21 @@ func TestBreathingCalibratedStreamEqualsBatch(t *testing.T) {
 	for ci, bc := range []BreathCalibration{
 		{VrefAnnotations: true},
 		{Weights: &resp.Calibration{RibWeight: wr, AbdWeight: wa, Litres: true}},
+		// QDC and the references together.
+		{VrefAnnotations: true, QDC: &window.Interval{Start: 100, End: 340}},
+		// A QDC span past the end: resolved at Close, relative only.
+		{QDC: &window.Interval{Start: 100, End: 2000}},
 	} {
 		cfg := Config{Families: []string{FamilyBreathing}, BreathCalibration: bc}
 		want, err := Extract(rec, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if n := countFinite(want.Float("ve_l_min")); n < 10 {
-			t.Fatalf("case %d: only %d rows with litres", ci, n)
+		if n := countFinite(want.Float("ve_l_min")); n < 10 && ci < 3 || n > 0 && ci == 3 {
+			t.Fatalf("case %d: %d rows with litres", ci, n)
+		}
+		if n := countFinite(want.Float("ve_au_min")); n < 10 {
+			t.Fatalf("case %d: only %d rows with AU", ci, n)
 		}
 		if n := countFinite(want.Float("hypopneas_desat3_n")); n < 10 {
 			t.Fatalf("case %d: SpO2 not used (%d rows with the desaturation count)", ci, n)
