@@ -215,6 +215,17 @@ func TestDaySimulate(t *testing.T) {
 			t.Errorf("apnea at %.0f s: rib-cage band moves only %.2f of before, want effort (> 0.3)", a.StartS, r)
 		}
 	}
+	// The bag calibration: every breath inside it moves exactly the bag's
+	// volume (the constant-volume premise of the reference calibration).
+	refs := d.ReferenceBreaths()
+	if len(refs) < 10 {
+		t.Errorf("%d bag breaths, want at least 10 (120 s at 13/min)", len(refs))
+	}
+	for _, r := range refs {
+		if r.Text != "vref=1.00 L" || r.StartS < DayBagCalibration.StartS || r.EndS > DayBagCalibration.EndS {
+			t.Errorf("reference breath %+v", r)
+		}
+	}
 	d2, err := DaySimulate(1)
 	if err != nil {
 		t.Fatal(err)
