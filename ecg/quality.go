@@ -78,7 +78,13 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 	}
 	clip := opt.ClipHighmV > opt.ClipLowmV
 	flatN := max(2, int(math.Round(opt.FlatS*rateHz)))
-	bad := make([]bool, len(x))
+	sc := welchPool.Get().(*welchScratch)
+	defer welchPool.Put(sc)
+	if cap(sc.bad) < len(x) {
+		sc.bad = make([]bool, len(x))
+	}
+	bad := sc.bad[:len(x)]
+	clear(bad)
 	var nLead, nFlat, nSat int
 	run := 0
 	for i, v := range x {
@@ -161,7 +167,6 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 		reasons = append(reasons, "longest valid run under 2 s: no spectrum")
 	default:
 		seg := min(be-bs, int(4*rateHz))
-		sc := welchPool.Get().(*welchScratch)
 		f, p, err := sc.welch(x[bs:be], rateHz, seg)
 		if err == nil {
 			band := func(lo, hi float64) float64 {
@@ -180,7 +185,6 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 				q.BasSQI = 1 - band(0, 1)/d
 			}
 		}
-		welchPool.Put(sc)
 	}
 	// bSQI against the second detector.
 	env, err := DetectEnvelope(x, rateHz)
@@ -214,10 +218,11 @@ func BeatAgreement(s Score) float64 {
 	return ratio(s.TP, s.TP+s.FN+s.FP)
 }
 
-// welchScratch is the quality spectrum's workspace, reused from window to
-// window: the FFT plan and Hann window for the last segment length and the
-// segment, coefficient and spectrum buffers.
+// welchScratch is WindowQuality's workspace, reused from window to window:
+// the sample flags, the FFT plan and Hann window for the last segment length
+// and the segment, coefficient and spectrum buffers.
 type welchScratch struct {
+	bad       []bool
 	seg       int
 	fft       *fourier.FFT
 	hann      []float64
