@@ -328,7 +328,8 @@ func dayBreaths(k dayKinetics, apneas []DayInterval, dur float64, rng *rand.Rand
 		duty := 0.42 + 0.08*math.Min(1, math.Max(0, (br-13)/35))
 		vt := at(k.vt, t) * (1 + 0.1*rng.NormFloat64())
 		vt = math.Max(vt, 0.15)
-		if t >= DayBagCalibration.StartS && t < DayBagCalibration.EndS {
+		bag := t >= DayBagCalibration.StartS && t < DayBagCalibration.EndS
+		if bag {
 			vt = DayBagL // breaths through the fixed-volume bag
 		}
 		rib := 0.4 // upright: about 40 % rib cage (common practice)
@@ -355,7 +356,7 @@ func dayBreaths(k dayKinetics, apneas []DayInterval, dur float64, rng *rand.Rand
 		} else if recovery > 0 {
 			b.TidalL *= 2
 			recovery--
-		} else if br < 16 && rng.Float64() < 0.01 {
+		} else if br < 16 && rng.Float64() < 0.01 && !bag {
 			b.TidalL *= 2.5 // a sigh
 		}
 		// Breaths do not run into an apnea: the last breath before it ends at
