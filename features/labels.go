@@ -79,7 +79,9 @@ func labelKey(s string) string {
 // intervals "rhythm_afib" lasting until the next rhythm change or the end;
 // other non-beat annotations become intervals named by their text (or code)
 // with their own duration (EDF+ annotations; WFDB point events). Beat
-// annotations are not labels. end is the recording extent in seconds. The
+// annotations are not labels, and neither are reference-breath marks
+// ("vref=0.80 L", see BreathCalibration): they calibrate the bands, they do
+// not describe the subject. end is the recording extent in seconds. The
 // labels are sorted by start.
 func AnnotationLabels(rec *recording.Recording, end float64) []Label {
 	origin := originOf(rec)
@@ -87,7 +89,7 @@ func AnnotationLabels(rec *recording.Recording, end float64) []Label {
 	var out []Label
 	var rhythm *Label
 	for _, a := range rec.Annotations {
-		if a.IsBeat() {
+		if a.IsBeat() || vrefPattern.MatchString(a.Text) || vrefPattern.MatchString(a.Code) {
 			continue
 		}
 		if a.Code == "+" {

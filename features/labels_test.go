@@ -142,3 +142,17 @@ func FuzzReadLabelsCSV(f *testing.F) {
 		}
 	})
 }
+
+// Reference-breath marks calibrate the bands; they must not become label
+// columns (the convention is Tidalbeat's own, documented on BreathCalibration).
+func TestVrefMarksAreNotLabels(t *testing.T) {
+	rec := &recording.Recording{Annotations: []recording.Annotation{
+		{Time: 10, Duration: 4, Text: "vref=0.80 L"},
+		{Time: 20, Duration: 4, Code: "VREF = 800 mL"},
+		{Time: 30, Duration: 60, Text: "stretching"},
+	}}
+	got := AnnotationLabels(rec, 100)
+	if len(got) != 1 || got[0].Name != "stretching" {
+		t.Fatalf("labels %+v, want only the stretching interval", got)
+	}
+}
