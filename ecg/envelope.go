@@ -243,19 +243,39 @@ func filtFilt(c dsp.Cascade, dst, ext, x []float64) ([]float64, []float64) {
 	copy(ext[pad:], x)
 	pass := func() {
 		v := ext[0]
-		for _, s := range c {
-			// Steady state for the constant input v (dsp.Filter.Reset).
+		// Steady state for the constant input v (dsp.Filter.Reset).
+		z := make([][2]float64, len(c))
+		for k, s := range c {
 			g := (s.B0 + s.B1 + s.B2) / (1 + s.A1 + s.A2)
 			y := g * v
-			z1 := s.B2*v - s.A2*y
-			z0 := y - s.B0*v
+			z[k][1] = s.B2*v - s.A2*y
+			z[k][0] = y - s.B0*v
 			v = y
-			b0, b1, b2, a1, a2 := s.B0, s.B1, s.B2, s.A1, s.A2
+		}
+		k := 0
+		// Two sections per sweep: their recursions are independent chains
+		// the processor overlaps.
+		for ; k+1 < len(c); k += 2 {
+			s, t := c[k], c[k+1]
+			z0, z1, w0, w1 := z[k][0], z[k][1], z[k+1][0], z[k+1][1]
 			for i, u := range ext {
-				out := b0*u + z0
-				z0 = b1*u - a1*out + z1
-				z1 = b2*u - a2*out
-				ext[i] = out
+				y := s.B0*u + z0
+				z0 = s.B1*u - s.A1*y + z1
+				z1 = s.B2*u - s.A2*y
+				o := t.B0*y + w0
+				w0 = t.B1*y - t.A1*o + w1
+				w1 = t.B2*y - t.A2*o
+				ext[i] = o
+			}
+		}
+		if k < len(c) {
+			s := c[k]
+			z0, z1 := z[k][0], z[k][1]
+			for i, u := range ext {
+				y := s.B0*u + z0
+				z0 = s.B1*u - s.A1*y + z1
+				z1 = s.B2*u - s.A2*y
+				ext[i] = y
 			}
 		}
 	}
