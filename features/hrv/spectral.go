@@ -3,8 +3,10 @@ package hrv
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"github.com/tidalbeat/tidalbeat/internal/dsp"
+	"gonum.org/v1/gonum/dsp/fourier"
 )
 
 // Estimator selects the power spectral density estimator.
@@ -258,7 +260,7 @@ func (w *spectrumWork) estimate(nnMs, endS []float64, opt SpectrumOptions) (PSD,
 			if nfft < min(seg, len(z)) {
 				nfft = min(seg, len(z))
 			}
-			f, p, err := dsp.Welch(z, fs, dsp.WelchOptions{Segment: seg, Overlap: opt.Overlap, NFFT: nfft, Detrend: dsp.SegmentNone})
+			f, p, err := welchNoDetrend(z, fs, seg, opt.Overlap, nfft)
 			if err != nil {
 				return PSD{}, fmt.Errorf("hrv: spectrum: %w", err)
 			}
@@ -381,4 +383,90 @@ func cumulative(nnMs []float64) []float64 {
 		t[i] = s / 1000
 	}
 	return t
+}
+
+// welchPlan is the reusable part of a Welch estimate for one segment and
+// FFT length: the FFT plan, the Hann window and the work buffers.
+type welchPlan struct {
+	seg, nfft int
+	fft       *fourier.FFT
+	hann      []float64
+	wss       float64
+	buf       []float64
+	coef      []complex128
+}
+
+var welchPlans = sync.Pool{New: func() any { return new(welchPlan) }}
+
+// welchNoDetrend is dsp.Welch(x, fs, dsp.WelchOptions{Segment: seg,
+// Overlap: overlap, NFFT: nfft, Detrend: dsp.SegmentNone}) with the FFT
+// plan, window and buffers reused across calls (Compute runs once per
+// window): the same operations in the same order, so the same numbers to
+// the bit. Anything dsp.Welch would reject goes to dsp.Welch for its error.
+func welchNoDetrend(x []float64, fs float64, seg0, overlap, nfft0 int) (freqs, psd []float64, err error) {
+	seg, nfft := seg0, nfft0
+	if seg == 0 {
+		seg = 256
+	}
+	if seg > len(x) {
+		seg = len(x)
+	}
+	if nfft == 0 {
+		nfft = seg
+	}
+	ov := overlap
+	switch {
+	case ov == 0:
+		ov = seg / 2
+	case ov < 0:
+		ov = 0
+	}
+	finite := true
+	for _, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			finite = false
+			break
+		}
+	}
+	if !(fs > 0) || math.IsInf(fs, 0) || len(x) < 2 || seg < 2 || nfft < seg || ov >= seg || !finite {
+		return dsp.Welch(x, fs, dsp.WelchOptions{Segment: seg0, Overlap: overlap, NFFT: nfft0, Detrend: dsp.SegmentNone})
+	}
+	w := welchPlans.Get().(*welchPlan)
+	defer welchPlans.Put(w)
+	if w.seg != seg || w.nfft != nfft || w.fft == nil {
+		w.seg, w.nfft = seg, nfft
+		w.hann = dsp.HannPeriodic(seg)
+		w.wss = 0
+		for _, v := range w.hann {
+			w.wss += v * v
+		}
+		w.fft = fourier.NewFFT(nfft)
+		w.buf = make([]float64, nfft)
+		w.coef = make([]complex128, nfft/2+1)
+	}
+	step := seg - ov
+	nseg := (len(x)-seg)/step + 1
+	psd = make([]float64, nfft/2+1)
+	buf := w.buf
+	for s := 0; s < nseg; s++ {
+		part := x[s*step : s*step+seg]
+		clear(buf)
+		for i, v := range part {
+			buf[i] = v * w.hann[i]
+		}
+		w.coef = w.fft.Coefficients(w.coef, buf)
+		for k, c := range w.coef {
+			psd[k] += real(c)*real(c) + imag(c)*imag(c)
+		}
+	}
+	norm := fs * w.wss * float64(nseg)
+	freqs = make([]float64, len(psd))
+	for k := range psd {
+		psd[k] /= norm
+		if k > 0 && !(nfft%2 == 0 && k == nfft/2) {
+			psd[k] *= 2
+		}
+		freqs[k] = float64(k) * fs / float64(nfft)
+	}
+	return freqs, psd, nil
 }
