@@ -360,25 +360,7 @@ func newCellGrid(x []float64, n, width int, r float64) (cellGrid, bool) {
 	for i := 0; i < n; i++ {
 		cell[i] = int64(math.Floor((x[i] - lo) / w))
 	}
-	idx := make([]int32, n)
-	for i := range idx {
-		idx[i] = int32(i)
-	}
-	slices.SortFunc(idx, func(p, q int32) int {
-		if cell[p] != cell[q] {
-			if cell[p] < cell[q] {
-				return -1
-			}
-			return 1
-		}
-		if x[p+1] < x[q+1] {
-			return -1
-		}
-		if x[p+1] > x[q+1] {
-			return 1
-		}
-		return int(p - q)
-	})
+	idx := sortTemplates(x, cell)
 	g := cellGrid{c: make([][]float64, width), cell: make([]int64, n)}
 	for d := range g.c {
 		col := make([]float64, n)
@@ -594,4 +576,61 @@ func fluctuation(y []float64, n int, bothEnds bool) float64 {
 		used *= 2
 	}
 	return math.Sqrt(total / float64(used*n))
+}
+
+// sortTemplates returns the template indices 0..len(cell)-1 ordered by
+// cell, then by second coordinate x[i+1], then by index: a total order, so
+// the result is the one any correct sort gives. When the cells span no more
+// than a few per template it buckets by cell (counting sort, indices
+// ascending in each bucket) and sorts each bucket alone, far fewer
+// comparisons than one sort over all; otherwise it sorts everything.
+func sortTemplates(x []float64, cell []int64) []int32 {
+	n := len(cell)
+	idx := make([]int32, n)
+	less := func(p, q int32) int {
+		if x[p+1] < x[q+1] {
+			return -1
+		}
+		if x[p+1] > x[q+1] {
+			return 1
+		}
+		return int(p - q)
+	}
+	var top int64
+	for _, c := range cell {
+		top = max(top, c)
+	}
+	if n == 0 || top >= int64(4*n+64) {
+		for i := range idx {
+			idx[i] = int32(i)
+		}
+		slices.SortFunc(idx, func(p, q int32) int {
+			if cell[p] != cell[q] {
+				if cell[p] < cell[q] {
+					return -1
+				}
+				return 1
+			}
+			return less(p, q)
+		})
+		return idx
+	}
+	start := make([]int32, top+2)
+	for _, c := range cell {
+		start[c+1]++
+	}
+	for c := 1; c < len(start); c++ {
+		start[c] += start[c-1]
+	}
+	pos := append([]int32(nil), start[:top+1]...)
+	for i, c := range cell {
+		idx[pos[c]] = int32(i)
+		pos[c]++
+	}
+	for c := int64(0); c <= top; c++ {
+		if b := idx[start[c]:start[c+1]]; len(b) > 1 {
+			slices.SortFunc(b, less)
+		}
+	}
+	return idx
 }

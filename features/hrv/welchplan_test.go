@@ -1,9 +1,11 @@
 package hrv
 
 import (
+	"cmp"
 	"errors"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/tidalbeat/tidalbeat/internal/dsp"
@@ -43,6 +45,47 @@ func TestWelchPlanMatchesDSP(t *testing.T) {
 			if gf[k] != wf[k] || gp[k] != wp[k] {
 				t.Fatalf("trial %d (n %d seg %d ov %d nfft %d) bin %d: (%v, %v), want (%v, %v)", trial, n, seg, ov, nfft, k, gf[k], gp[k], wf[k], wp[k])
 			}
+		}
+	}
+}
+
+// TestSortTemplatesMatchesSort checks the bucketed template order used by
+// the entropy grids against one comparison sort by (cell, second
+// coordinate, index), the order the grid walk is defined on (common
+// practice: a total order has one sorted result), with ties and with cell
+// ranges wide enough to take the plain-sort path.
+func TestSortTemplatesMatchesSort(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 9))
+	for trial := 0; trial < 300; trial++ {
+		n := rng.IntN(400)
+		x := make([]float64, n+1)
+		for i := range x {
+			x[i] = float64(rng.IntN(20)) // many ties
+			if trial%2 == 0 {
+				x[i] = rng.NormFloat64()
+			}
+		}
+		spread := []int64{3, 30, int64(10 * (n + 10))}[rng.IntN(3)]
+		cell := make([]int64, n)
+		for i := range cell {
+			cell[i] = rng.Int64N(spread)
+		}
+		want := make([]int32, n)
+		for i := range want {
+			want[i] = int32(i)
+		}
+		slices.SortFunc(want, func(p, q int32) int {
+			if cell[p] != cell[q] {
+				return cmp.Compare(cell[p], cell[q])
+			}
+			if c := cmp.Compare(x[p+1], x[q+1]); c != 0 {
+				return c
+			}
+			return cmp.Compare(p, q)
+		})
+		got := sortTemplates(x, cell)
+		if !slices.Equal(got, want) {
+			t.Fatalf("trial %d (n %d spread %d): order differs", trial, n, spread)
 		}
 	}
 }
