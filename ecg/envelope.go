@@ -69,10 +69,18 @@ type envScratch struct {
 
 var envPool = sync.Pool{New: func() any { return new(envScratch) }}
 
+// maxPooled is the largest buffer (in elements) kept in the scratch pools:
+// windows of a few minutes are reused, a whole-record call is not retained.
+const maxPooled = 1 << 20
+
 func envelopeRun(x []float64, off int, fs float64, bp dsp.Cascade) []Beat {
 	n := len(x)
 	sc := envPool.Get().(*envScratch)
-	defer envPool.Put(sc)
+	defer func() {
+		if cap(sc.ext) <= maxPooled {
+			envPool.Put(sc) // buffers of a long run are left to the GC
+		}
+	}()
 	sc.y, sc.ext = filtFilt(bp, sc.y, sc.ext, x)
 	y := sc.y
 	half := max(1, int(math.Round(0.05*fs)))

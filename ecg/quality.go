@@ -79,7 +79,11 @@ func WindowQuality(x []float64, rateHz float64, beatS []float64, opt QualityOpti
 	clip := opt.ClipHighmV > opt.ClipLowmV
 	flatN := max(2, int(math.Round(opt.FlatS*rateHz)))
 	sc := welchPool.Get().(*welchScratch)
-	defer welchPool.Put(sc)
+	defer func() {
+		if cap(sc.bad) <= maxPooled && cap(sc.buf) <= maxPooled {
+			welchPool.Put(sc)
+		}
+	}()
 	if cap(sc.bad) < len(x) {
 		sc.bad = make([]bool, len(x))
 	}

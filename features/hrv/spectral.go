@@ -432,7 +432,11 @@ func welchNoDetrend(x []float64, fs float64, seg0, overlap, nfft0 int) (freqs, p
 		return dsp.Welch(x, fs, dsp.WelchOptions{Segment: seg0, Overlap: overlap, NFFT: nfft0, Detrend: dsp.SegmentNone})
 	}
 	w := welchPlans.Get().(*welchPlan)
-	defer welchPlans.Put(w)
+	defer func() {
+		if cap(w.buf) <= 1<<20 {
+			welchPlans.Put(w) // a huge NFFT is left to the GC
+		}
+	}()
 	if w.seg != seg || w.nfft != nfft || w.fft == nil {
 		w.seg, w.nfft = seg, nfft
 		w.hann = dsp.HannPeriodic(seg)
