@@ -296,7 +296,7 @@ func TestBreathingCalibratedStreamEqualsBatch(t *testing.T) {
 		if n := countFinite(want.Float("ve_au_min")); n < 10 {
 			t.Fatalf("case %d: only %d rows with AU", ci, n)
 		}
-		if n := countFinite(want.Float("hypopneas_desat3_n")); n < 10 {
+		if n := countFinite(want.Float("n_hypopneas_desat3")); n < 10 {
 			t.Fatalf("case %d: SpO2 not used (%d rows with the desaturation count)", ci, n)
 		}
 		for trial := range 2 {
@@ -309,7 +309,7 @@ func TestBreathingCalibratedStreamEqualsBatch(t *testing.T) {
 
 // TestBreathingSpO2Desaturation: with the simulator's SpO2 channel (which
 // dips 3.5-7 % after each event, simulator ground truth) the candidate
-// events see the desaturation: hypopneas_desat3_n is defined on every valid
+// events see the desaturation: n_hypopneas_desat3 is defined on every valid
 // window and is empty, with a reason, without SpO2.
 func TestBreathingSpO2Desaturation(t *testing.T) {
 	rec, _ := calibRecording(t, 12, true)
@@ -323,8 +323,8 @@ func TestBreathingSpO2Desaturation(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	hw, hy, dw := with.Float("hypopneas_n"), without.Float("hypopneas_desat3_n"), with.Float("hypopneas_desat3_n")
-	ap := with.Float("apneas_n")
+	hw, hy, dw := with.Float("n_hypopneas"), without.Float("n_hypopneas_desat3"), with.Float("n_hypopneas_desat3")
+	ap := with.Float("n_apneas")
 	events, desat := 0.0, 0.0
 	for i := range with.Rows {
 		if !math.IsNaN(hy[i]) {

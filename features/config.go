@@ -123,7 +123,7 @@ type Config struct {
 // span, then resolves the weights and replays the held samples; NewStream
 // refuses spans ending after MaxStreamCalibrationS. With an SpO2 channel
 // (recording.RoleSpO2, used for the desaturation criterion of the candidate
-// hypopneas, column hypopneas_desat3_n) a breathing window is computed once
+// hypopneas, column n_hypopneas_desat3) a breathing window is computed once
 // SpO2 has also been pushed 150 s past its end (the 90-s event context and
 // 60 s for resp's desaturation baseline and lag), so push every channel.
 type BreathCalibration struct {

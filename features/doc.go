@@ -44,10 +44,10 @@
 //     columns verbatim (resp_rate_per_min, ve_au_min, ...). Bands are not
 //     calibrated, so litre columns stay empty with resp's reason.
 //   - activity, 30 s (common practice): motion.Derive and motion.EpochsOf,
-//     with motion's column names (enmo_mg, steps_count, ...).
+//     with motion's column names (enmo_mg, n_steps, ...).
 //
 // Every family writes <family>_coverage_frac and <family>_reason, and the
-// counts behind its values (hrv_n_beats, hrv_n_nn, resp_breaths_n,
+// counts behind its values (hrv_n_beats, hrv_n_nn, resp_n_breaths,
 // activity_n_samples, ...), counts even for windows below the coverage
 // minimum. A family whose channels are missing keeps its columns empty with
 // the reason ("no ECG channel", "no respiratory band"); that is not an

@@ -32,7 +32,7 @@ func ExampleExtract() {
 		fmt.Println(err)
 		return
 	}
-	steps, cadence := tab.Float("steps_count"), tab.Float("cadence_spm")
+	steps, cadence := tab.Float("n_steps"), tab.Float("cadence_spm")
 	for i, r := range tab.Rows {
 		fmt.Printf("%s steps %2.0f cadence %3.0f /min, hrv: %s\n", r.Time.Format("15:04:05"), steps[i], cadence[i], tab.Strings("hrv_reason")[i])
 	}
@@ -56,7 +56,7 @@ func ExampleStream() {
 	}
 	col := -1
 	for i, c := range s.Columns() {
-		if c.Name == "steps_count" {
+		if c.Name == "n_steps" {
 			col = i
 		}
 	}

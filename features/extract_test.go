@@ -77,7 +77,7 @@ func TestActivityStepsAgainstSimulator(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	steps, cad := tab.Float("steps_count"), tab.Float("cadence_spm")
+	steps, cad := tab.Float("n_steps"), tab.Float("cadence_spm")
 	cov := tab.Float("activity_coverage_frac")
 	checked := 0
 	for i, r := range tab.Rows {
@@ -289,7 +289,7 @@ func TestBreathingAgainstSimulator(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rate, apn := tab.Float("resp_rate_per_min"), tab.Float("apneas_n")
+	rate, apn := tab.Float("resp_rate_per_min"), tab.Float("n_apneas")
 	checked := 0
 	for i, r := range tab.Rows {
 		lo, hi := r.Offset-60, r.Offset
@@ -315,7 +315,7 @@ func TestBreathingAgainstSimulator(t *testing.T) {
 	// not calibrated (equal weights), so the apnea's paradoxical efforts do
 	// not cancel in the sum and resp scores the drop as a candidate
 	// hypopnea (>= 30 % but < 90 %): count both kinds.
-	hyp := tab.Float("hypopneas_n")
+	hyp := tab.Float("n_hypopneas")
 	total := 0.0
 	for i := range apn {
 		for _, v := range []float64{apn[i], hyp[i]} {

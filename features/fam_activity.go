@@ -13,7 +13,7 @@ import (
 // column names (motion.Columns), typed, plus the count behind them.
 var activityCols = []Column{
 	{Name: "activity_n_samples", Kind: Int, Doc: "valid accelerometer samples in the window"},
-	{Name: "steps_count", Kind: Int, Doc: "steps counted in the window"},
+	{Name: "n_steps", Kind: Int, Doc: "steps counted in the window"},
 	{Name: "cadence_spm", Kind: Float, Doc: "steps/min: 60 over the median step interval in the window"},
 	{Name: "enmo_mg", Kind: Float, Doc: "ENMO, mg (van Hees et al. 2013)"},
 	{Name: "mad_mg", Kind: Float, Doc: "mean amplitude deviation, mg (Vaha-Ypya et al. 2015)"},
@@ -23,8 +23,8 @@ var activityCols = []Column{
 	{Name: "intensity_class", Kind: Text, Doc: "light, moderate or vigorous from MAD cut-points (91, 414 mg; hip-worn adults)"},
 	{Name: "posture", Kind: Text, Doc: "posture class from the window's mean gravity vector"},
 	{Name: "inclination_deg", Kind: Float, Doc: "trunk inclination from vertical, degrees"},
-	{Name: "posture_changes_n", Kind: Int, Doc: "posture changes confirmed in the window"},
-	{Name: "saturated_n", Kind: Int, Doc: "saturated samples in the window"},
+	{Name: "n_posture_changes", Kind: Int, Doc: "posture changes confirmed in the window"},
+	{Name: "n_saturated", Kind: Int, Doc: "saturated samples in the window"},
 	{Name: "motion_artefact", Kind: Int, Doc: "1 when motion likely corrupts ECG and bands in this window, else 0"},
 	{Name: "artefact_reason", Kind: Text, Doc: "why motion_artefact is 1"},
 }

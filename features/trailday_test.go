@@ -57,8 +57,8 @@ func TestTrailDay(t *testing.T) {
 		}
 		return false
 	}
-	hr, rate, steps := tab.Float("mean_hr_bpm"), tab.Float("resp_rate_per_min"), tab.Float("steps_count")
-	apn, hyp := tab.Float("apneas_n"), tab.Float("hypopneas_n")
+	hr, rate, steps := tab.Float("mean_hr_bpm"), tab.Float("resp_rate_per_min"), tab.Float("n_steps")
+	apn, hyp := tab.Float("n_apneas"), tab.Float("n_hypopneas")
 	var nHR, nRate, nSteps int
 	for i, r := range tab.Rows {
 		e := r.Offset

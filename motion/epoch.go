@@ -109,9 +109,9 @@ func (e Epoch) Counts(m CountMode) float64 {
 func Columns() []string {
 	return []string{
 		"epoch_start_utc", "epoch_start_s", "epoch_end_s", "coverage_frac", "valid",
-		"steps_count", "cadence_spm", "enmo_mg", "mad_mg",
+		"n_steps", "cadence_spm", "enmo_mg", "mad_mg",
 		"counts_pim_mgs", "counts_zc_n", "counts_tat_s", "intensity_class",
-		"posture", "inclination_deg", "posture_changes_n", "saturated_n",
+		"posture", "inclination_deg", "n_posture_changes", "n_saturated",
 		"motion_artefact", "artefact_reason",
 	}
 }

@@ -59,8 +59,8 @@ const (
 // litres (NaN unless calibrated absolutely) and in arbitrary units; they are
 // never mixed in one column.
 var summaryColumns = [numCols]string{
-	colBreaths:   "resp_breaths_n",        // breaths with onset in the window
-	colClean:     "resp_clean_breaths_n",  // of which without a quality flag
+	colBreaths:   "resp_n_breaths",        // breaths with onset in the window
+	colClean:     "resp_n_clean_breaths",  // of which without a quality flag
 	colRate:      "resp_rate_per_min",     // 60 * breaths / sum(Ttot + pause)
 	colRateCV:    "resp_rate_cv_pct",      // CV of per-breath rate
 	colRateIQR:   "resp_rate_iqr_per_min", // IQR of per-breath rate
@@ -79,16 +79,16 @@ var summaryColumns = [numCols]string{
 	colFlowL:     "insp_flow_l_s",  // median mean inspiratory flow Vt/Ti, L/s
 	colFlowAU:    "insp_flow_au_s", // the same in AU/s
 	colFlowCV:    "insp_flow_cv_pct",
-	colSighs:     "sighs_n",
+	colSighs:     "n_sighs",
 	colPhaseXC:   "phase_xcorr_deg",     // median per-breath cross-correlation phase (WindowPhase gives it from samples)
 	colPhaseLis:  "phase_lissajous_deg", // median per-breath Lissajous phase
 	colParadox:   "paradox_time_frac",   // share of breath time in paradoxical breaths
-	colApneas:    "apneas_n",            // candidate apneas starting in the window
-	colHypopneas: "hypopneas_n",         // candidate hypopneas starting in the window
-	colApneasObs: "apneas_obstructive_n",
-	colApneasCen: "apneas_central_n",
-	colApneasMix: "apneas_mixed_n",
-	colHypDesat:  "hypopneas_desat3_n", // candidate hypopneas with >= 3 % SpO2 desaturation (AASM rule 1A's criterion); NaN without SpO2
+	colApneas:    "n_apneas",            // candidate apneas starting in the window
+	colHypopneas: "n_hypopneas",         // candidate hypopneas starting in the window
+	colApneasObs: "n_apneas_obstructive",
+	colApneasCen: "n_apneas_central",
+	colApneasMix: "n_apneas_mixed",
+	colHypDesat:  "n_hypopneas_desat3", // candidate hypopneas with >= 3 % SpO2 desaturation (AASM rule 1A's criterion); NaN without SpO2
 	colCoverage:  "resp_coverage_frac", // share of the window with valid band samples
 	colQuality:   "resp_quality_frac",  // share of the window's breaths without a quality flag
 }
@@ -139,7 +139,7 @@ type SummaryOptions struct {
 	// more than 20 % of the time).
 	MaxFlaggedFrac float64
 	// SpO2 says that the events were detected with an SpO2 series
-	// (EventOptions.SpO2), so hypopneas_desat3_n is defined; without it
+	// (EventOptions.SpO2), so n_hypopneas_desat3 is defined; without it
 	// that column is NaN with the reason.
 	SpO2 bool
 }
@@ -150,7 +150,7 @@ type SummaryOptions struct {
 // list; those starting in [w.Start, w.End) are counted). It is a pure
 // function: batch and streaming callers get the same numbers for the same
 // inputs. Breaths with a quality flag count in resp_quality_frac and
-// sighs_n but not in timing and volume features. Event counts are NaN when
+// n_sighs but not in timing and volume features. Event counts are NaN when
 // the window is invalid.
 func Summarize(w window.Window, breaths []Breath, events []Event, opt SummaryOptions) Summary {
 	s := Summary{Window: w}

@@ -39,7 +39,7 @@ func TestSummaryColumns(t *testing.T) {
 		}
 	}
 	// The pipeline issue names ve_l_min for calibrated minute ventilation.
-	for _, c := range []string{"ve_l_min", "vt_l", "vt_au", "resp_rate_per_min", "ti_ttot_ratio", "paradox_time_frac", "apneas_n", "hypopneas_n", "resp_coverage_frac", "resp_quality_frac", "sighs_n"} {
+	for _, c := range []string{"ve_l_min", "vt_l", "vt_au", "resp_rate_per_min", "ti_ttot_ratio", "paradox_time_frac", "n_apneas", "n_hypopneas", "resp_coverage_frac", "resp_quality_frac", "n_sighs"} {
 		if !seen[c] {
 			t.Errorf("column %q missing", c)
 		}
@@ -70,7 +70,7 @@ func TestSummaryAnalytic(t *testing.T) {
 			if math.Abs(get("resp_rate_per_min")-12) > 0.05 || math.Abs(get("vt_au")-0.5) > 0.01 ||
 				math.Abs(get("ve_au_min")-6) > 0.1 || math.Abs(get("ti_ttot_ratio")-0.4) > 0.01 ||
 				math.Abs(get("insp_flow_au_s")-0.25) > 0.01 || get("resp_quality_frac") != 1 || get("resp_coverage_frac") != 1 ||
-				get("apneas_n") != 0 || get("paradox_time_frac") != 0 {
+				get("n_apneas") != 0 || get("paradox_time_frac") != 0 {
 				t.Fatalf("window %v: %v (methods 5.2, derived)", w.Window.Start, w.Values())
 			}
 			if cal.Litres {
@@ -187,7 +187,7 @@ func TestWindowStreamMatchesBatch(t *testing.T) {
 	}
 }
 
-// TestSummaryDesaturatingHypopneas: hypopneas_desat3_n counts the
+// TestSummaryDesaturatingHypopneas: n_hypopneas_desat3 counts the
 // hypopneas meeting the >= 3 % desaturation criterion of AASM rule 1A
 // (Berry et al. 2012) when events were scored with SpO2, and is NaN with a
 // reason without it.
@@ -199,14 +199,14 @@ func TestSummaryDesaturatingHypopneas(t *testing.T) {
 		{Kind: resp.EventApnea, Start: 50, End: 65, DesatPct: 6},
 	}
 	s := resp.Summarize(w, nil, ev, resp.SummaryOptions{SpO2: true})
-	if v, _ := s.Value("hypopneas_desat3_n"); v != 1 {
+	if v, _ := s.Value("n_hypopneas_desat3"); v != 1 {
 		t.Errorf("with SpO2: %v desaturating hypopneas, want 1 (AASM rule 1A, Berry et al. 2012)", v)
 	}
-	if v, _ := s.Value("hypopneas_n"); v != 2 {
+	if v, _ := s.Value("n_hypopneas"); v != 2 {
 		t.Errorf("%v hypopneas, want 2", v)
 	}
 	s = resp.Summarize(w, nil, ev, resp.SummaryOptions{})
-	if v, _ := s.Value("hypopneas_desat3_n"); !math.IsNaN(v) || !strings.Contains(s.Reason("hypopneas_desat3_n"), "SpO2") {
-		t.Errorf("without SpO2: %v (%q)", v, s.Reason("hypopneas_desat3_n"))
+	if v, _ := s.Value("n_hypopneas_desat3"); !math.IsNaN(v) || !strings.Contains(s.Reason("n_hypopneas_desat3"), "SpO2") {
+		t.Errorf("without SpO2: %v (%q)", v, s.Reason("n_hypopneas_desat3"))
 	}
 }

@@ -65,7 +65,7 @@ func TestActivityCommand(t *testing.T) {
 	for i, h := range head {
 		col[h] = i
 	}
-	for _, want := range []string{"epoch_start_utc", "steps_count", "cadence_spm", "enmo_mg", "mad_mg", "counts_pim_mgs", "intensity_class", "posture"} {
+	for _, want := range []string{"epoch_start_utc", "n_steps", "cadence_spm", "enmo_mg", "mad_mg", "counts_pim_mgs", "intensity_class", "posture"} {
 		if _, ok := col[want]; !ok {
 			t.Errorf("column %q missing from %v", want, head)
 		}
@@ -81,7 +81,7 @@ func TestActivityCommand(t *testing.T) {
 	}
 	sum := 0
 	for _, r := range rows[1:] {
-		n, _ := strconv.Atoi(r[col["steps_count"]])
+		n, _ := strconv.Atoi(r[col["n_steps"]])
 		sum += n
 	}
 	if sum != total || math.Abs(float64(total-len(rec.Steps))) > 0.03*float64(len(rec.Steps)) {

@@ -169,7 +169,7 @@ func TestFeaturesCohortPartitioned(t *testing.T) {
 	}
 	type row struct {
 		TimeUTC time.Time `parquet:"time_utc,timestamp(microsecond)"`
-		Steps   *int64    `parquet:"steps_count,optional"`
+		Steps   *int64    `parquet:"n_steps,optional"`
 		Walk    *float64  `parquet:"label_walk_overlap_frac,optional"`
 		Reason  *string   `parquet:"hrv_reason,optional"`
 	}

@@ -73,7 +73,7 @@ func run(minutes float64, realtime bool, w io.Writer) error {
 		}
 		return -1
 	}
-	hr, rmssd, steps, post := col("mean_hr_bpm"), col("rmssd_ms"), col("steps_count"), col("posture")
+	hr, rmssd, steps, post := col("mean_hr_bpm"), col("rmssd_ms"), col("n_steps"), col("posture")
 	print := func(r features.Row, sec int) {
 		fmt.Fprintf(w, "packet %4d s  row %s  hr %5.1f bpm  rmssd %5.1f ms  steps %3.0f  %s\n",
 			sec, r.Time.Format("15:04:05"), r.Values[hr], r.Values[rmssd], r.Values[steps], r.Texts[post])

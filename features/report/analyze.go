@@ -399,7 +399,7 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		for _, x := range times {
 			act.TimeS = append(act.TimeS, x-act.EpochS)
 		}
-		act.ENMOmg, act.MADmg, act.Steps = t.Float("enmo_mg"), t.Float("mad_mg"), t.Float("steps_count")
+		act.ENMOmg, act.MADmg, act.Steps = t.Float("enmo_mg"), t.Float("mad_mg"), t.Float("n_steps")
 		for _, p := range t.Strings("posture") {
 			if p == "unknown" {
 				p = ""
@@ -434,7 +434,7 @@ func (a *Analysis) fromTable(cfg features.Config) {
 		}
 	}
 	bsqi, corr := col("ecg_bsqi_frac", 1), col("hrv_corrected_frac", 0)
-	clean, all := t.Float("resp_clean_breaths_n"), t.Float("resp_breaths_n")
+	clean, all := t.Float("resp_n_clean_breaths"), t.Float("resp_n_breaths")
 	for _, fam := range []struct {
 		name, label string
 		good        func(int) float64
@@ -513,7 +513,7 @@ func meanHR(b Beats, start, end float64) float64 {
 // ending in [start, end): 60000 over the mean interval in ms. NaN when none.
 func (a *Analysis) MeanHR(start, end float64) float64 { return meanHR(a.Input.Beats, start, end) }
 
-// StepsIn sums the table's steps_count over the activity windows that lie
+// StepsIn sums the table's n_steps over the activity windows that lie
 // inside [start, end) (row time minus window length at or after start, row
 // time at or before end). ok is false without an activity family.
 func (a *Analysis) StepsIn(start, end float64) (n float64, ok bool) {
