@@ -10,7 +10,8 @@
 // of RR average 2, T-wave discrimination by slope, a 200 ms refractory period
 // and the irregular-rhythm rule, with a learning phase at the start and after
 // every gap. R-peaks are refined to the extremum of the conditioned signal,
-// with parabolic sub-sample interpolation below 250 Hz. NaN samples, flat
+// with parabolic sub-sample interpolation up to and including 250 Hz
+// (Options.InterpMaxHz). NaN samples, flat
 // lines and saturation are gaps. The streaming Detector and the batch Detect
 // share one core and give identical beats for any chunking.
 //
