@@ -27,12 +27,19 @@ func breathingCols() []Column {
 	var cols []Column
 	for _, name := range resp.SummaryColumns() {
 		k := Float
-		if len(name) > 2 && name[len(name)-2:] == "_n" {
+		if isCountColumn(name) {
 			k = Int
 		}
 		cols = append(cols, Column{Name: name, Kind: k, Doc: "resp.Summary column " + name})
 	}
 	return cols
+}
+
+// isCountColumn reports whether a column holds a count: by the table's
+// naming scheme counts are n_<thing>, or <family>_n_<thing> for a family's
+// own bookkeeping.
+func isCountColumn(name string) bool {
+	return strings.HasPrefix(name, "n_") || strings.Contains(name, "_n_")
 }
 
 // newBreathingFamily builds the breathing family from the rib-cage and

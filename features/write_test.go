@@ -233,3 +233,21 @@ func TestSidecar(t *testing.T) {
 		t.Errorf("columns %v", cols)
 	}
 }
+
+// Counts are integers in the schema (Parquet INT64, JSON integers): the
+// breathing family types resp's count columns by the naming scheme.
+func TestBreathingCountColumnsAreInts(t *testing.T) {
+	kinds := map[string]Kind{}
+	for _, c := range breathingCols() {
+		kinds[c.Name] = c.Kind
+	}
+	for _, name := range []string{"resp_n_breaths", "n_sighs", "n_apneas", "n_hypopneas"} {
+		k, ok := kinds[name]
+		if !ok || k != Int {
+			t.Errorf("column %s: kind %v (present %v), want Int", name, k, ok)
+		}
+	}
+	if kinds["ve_l_min"] != Float || kinds["resp_rate_per_min"] != Float {
+		t.Errorf("measurement columns must stay Float")
+	}
+}
