@@ -25,6 +25,12 @@ type Options struct {
 	// minimum event duration, Berry et al. 2012) or more, else it starts
 	// at the first breath.
 	ExcerptS float64
+	// BreathCalibration is the band calibration the feature table applied
+	// (features.ResolveBreathCalibration); when nil, Analyze resolves it
+	// from Features with the same function, so the breathing trace and its
+	// breaths use the table's weights. When it applies no weights (method
+	// "none") the report falls back to QDC per posture in arbitrary units.
+	BreathCalibration *features.BreathCalibrationResult
 }
 
 func (o Options) withDefaults() Options {
@@ -44,9 +50,13 @@ type Analysis struct {
 	ECGGaps []window.Interval
 	// NN is the cleaned NN series of the whole recording.
 	NN ecg.NN
-	// Breaths are the detected breaths (resp.Detect on the band sum, QDC
-	// weights per posture).
+	// Breaths are the detected breaths (resp.Detect on the band sum with
+	// the table's calibration, or QDC weights per posture when the table
+	// has none; see BreathCalibration).
 	Breaths []resp.Breath
+	// BreathCalibration is the calibration the table resolved; the
+	// breathing figure used it when its Calibration.Method is not "none".
+	BreathCalibration features.BreathCalibrationResult
 	// Events are the candidate apneas and hypopneas (resp.DetectEvents,
 	// AASM amplitude and duration criteria on the band sum).
 	Events []resp.Event
@@ -261,16 +271,49 @@ func (a *Analysis) postureRuns(end float64) []Span {
 	return out
 }
 
-// breathing detects breaths on the bands, posture by posture: each run of
-// one posture gets its own QDC weight (QDC is posture-specific,
-// resp.QDCCaveat) from its first qdcSpanS, the previous run's weight or
-// equal weights when QDC is undefined there. Candidate events are detected on the
-// breaths of all runs together, and an excerpt of the weighted sum is kept
+// bandsOf returns the rib-cage and abdominal bands as the feature table
+// finds them: the first channel of each role after Config.Roles overrides.
+func bandsOf(rec *recording.Recording, cfg features.Config) (rc, ab *recording.Channel) {
+	for i := range rec.Channels {
+		ch := &rec.Channels[i]
+		r := ch.Role
+		if o, ok := cfg.Roles[ch.Name]; ok {
+			r = o
+		}
+		switch {
+		case r == recording.RoleRibCage && rc == nil:
+			rc = ch
+		case r == recording.RoleAbdomen && ab == nil:
+			ab = ch
+		}
+	}
+	return rc, ab
+}
+
+// breathing detects the breaths behind the breathing trace, the candidate
+// events and the per-segment breathing rates.
+//
+// With a calibration that applies weights (the table's, resolved by
+// features.ResolveBreathCalibration from the same Config, or
+// Options.BreathCalibration), breaths are detected once over the whole
+// recording with those weights and the same resp.Options the breathing
+// family uses (rate and calibration, other fields at their defaults), so
+// the trace and its breaths match the table and are in litres when the
+// calibration is absolute. The features API does not expose the breaths
+// it detected, so they are detected again here, with the same options.
+//
+// Without one (the table's volumes are in arbitrary units and uncalibrated)
+// the fallback is QDC per posture: each run of one posture gets its own
+// QDC weight (QDC is posture-specific, resp.QDCCaveat) from its first
+// qdcSpanS, the previous run's weight or equal weights when QDC is
+// undefined there.
+//
+// Candidate events are detected on all the breaths together
+// (resp.DetectEvents defaults), and an excerpt of the weighted sum is kept
 // for the breathing-trace figure.
 func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
-	rc, okr := rec.Channel(recording.RoleRibCage)
-	ab, oka := rec.Channel(recording.RoleAbdomen)
-	if !okr || !oka {
+	rc, ab := bandsOf(rec, opt.Features)
+	if rc == nil || ab == nil {
 		return fmt.Errorf("needs both a rib-cage and an abdominal band")
 	}
 	if rc.RateHz != ab.RateHz {
@@ -278,48 +321,48 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	}
 	fs := rc.RateHz
 	n := min(len(rc.Samples), len(ab.Samples))
-	var res resp.Result
-	var notes []string
-	cal := resp.Calibration{}
-	weights := make([][2]float64, 0, 4) // per run, for the excerpt
-	runs := a.postureRuns(float64(n) / fs)
-	for _, r := range runs {
-		i0, i1 := int(math.Round(r.Start*fs)), min(n, int(math.Round(r.End*fs)))
-		if i1-i0 < int(10*fs) {
-			weights = append(weights, [2]float64{math.NaN(), math.NaN()})
-			continue
-		}
-		ropt := resp.Options{RateHz: fs, StartS: float64(i0) / fs}
-		// QDC from the first qdcSpanS of the run.
-		q0, q1 := i0, min(i1, i0+int(qdcSpanS*fs))
-		qopt := resp.Options{RateHz: fs, StartS: float64(q0) / fs}
-		what := "kept the previous weights"
-		if qr, err := resp.QDC(rc.Samples[q0:q1], ab.Samples[q0:q1], qopt, resp.QDCOptions{}); err == nil && isFinite(qr.K) && qr.K > 0 {
-			cal = qr.Calibration()
-			what = fmt.Sprintf("K = %.3f from %d of %d breaths at %.0f-%.0f s", qr.K, qr.Used, qr.Total, float64(q0)/fs, float64(q1)/fs)
-		}
-		ropt.Calibration = cal
-		rr, err := resp.Detect(rc.Samples[i0:i1], ab.Samples[i0:i1], ropt)
+	var bcr features.BreathCalibrationResult
+	if opt.BreathCalibration != nil {
+		bcr = *opt.BreathCalibration
+	} else {
+		r, err := features.ResolveBreathCalibration(rec, opt.Features)
 		if err != nil {
 			return err
 		}
-		res.Breaths = append(res.Breaths, rr.Breaths...)
-		res.Pauses = append(res.Pauses, rr.Pauses...)
-		res.Gaps = append(res.Gaps, rr.Gaps...)
-		res.Discarded += rr.Discarded
-		res.Calibration = rr.Calibration
-		rw, aw := cal.RibWeight, cal.AbdWeight
-		if rw == 0 && aw == 0 {
-			rw, aw = 1, 1
-		}
-		weights = append(weights, [2]float64{rw, aw})
-		label := r.Label
-		if label == "" {
-			label = "whole recording"
-		}
-		notes = append(notes, fmt.Sprintf("%s %.0f-%.0f s: %s", label, r.Start, r.End, what))
+		bcr = r
 	}
-	note := "QDC per posture (relative calibration; " + resp.QDCCaveat + "): " + strings.Join(notes, "; ")
+	a.BreathCalibration = bcr
+	var (
+		res       resp.Result
+		note      string
+		traceNote string
+		cal       resp.Calibration
+		runs      []Span
+		weights   [][2]float64 // per run, for the excerpt
+	)
+	if c := bcr.Calibration; c.Method != "" && c.Method != "none" {
+		cal = c
+		r, err := resp.Detect(rc.Samples[:n], ab.Samples[:n], resp.Options{RateHz: fs, Calibration: cal})
+		if err != nil {
+			return err
+		}
+		res = r
+		runs = []Span{{Start: 0, End: float64(n) / fs}}
+		weights = [][2]float64{{cal.RibWeight, cal.AbdWeight}}
+		note = fmt.Sprintf("the feature table's calibration (%s: %s, rib weight %.4g, abdominal weight %.4g, volumes in %s)",
+			bcr.Requested, cal.Method, cal.RibWeight, cal.AbdWeight, cal.VolumeUnit())
+		if cal.Caveat != "" {
+			note += "; " + cal.Caveat
+		}
+		traceNote = fmt.Sprintf(" Band sum weighted by the feature table's calibration (%s), unfiltered; volumes in %s.", cal.Method, cal.VolumeUnit())
+	} else {
+		var err error
+		res, cal, runs, weights, note, err = a.breathingQDC(rc, ab, n, bcr)
+		if err != nil {
+			return err
+		}
+		traceNote = " Band sum weighted by its posture's QDC weight (fallback: the feature table has no calibration), unfiltered; volumes in arbitrary units."
+	}
 	a.Breaths = res.Breaths
 	in := a.Input
 	if ev, err := resp.DetectEvents(res, resp.EventOptions{}); err != nil {
@@ -358,7 +401,7 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	t0 = math.Max(0, math.Min(t0, float64(n)/rc.RateHz-opt.ExcerptS))
 	i0, i1 := int(t0*rc.RateHz), min(n, int((t0+opt.ExcerptS)*rc.RateHz))
 	b := &in.Breath
-	b.T0S, b.RateHz, b.Unit, b.Note = float64(i0)/rc.RateHz, rc.RateHz, cal.VolumeUnit(), why+" Band sum weighted by its posture's QDC weight, unfiltered."
+	b.T0S, b.RateHz, b.Unit, b.Note = float64(i0)/rc.RateHz, rc.RateHz, cal.VolumeUnit(), why+traceNote
 	k := 0
 	for i := i0; i < i1; i++ {
 		t := float64(i) / fs
@@ -555,4 +598,55 @@ func (a *Analysis) BreathRate(start, end float64) float64 {
 		return math.NaN()
 	}
 	return 60 / (sum / float64(n))
+}
+
+// breathingQDC is the fallback of breathing when the table applies no
+// calibration: breaths detected run by run of one posture, each with the
+// QDC weight of its first qdcSpanS (see breathing).
+func (a *Analysis) breathingQDC(rc, ab *recording.Channel, n int, bcr features.BreathCalibrationResult) (res resp.Result, cal resp.Calibration, runs []Span, weights [][2]float64, note string, err error) {
+	fs := rc.RateHz
+	var notes []string
+	runs = a.postureRuns(float64(n) / fs)
+	for _, r := range runs {
+		i0, i1 := int(math.Round(r.Start*fs)), min(n, int(math.Round(r.End*fs)))
+		if i1-i0 < int(10*fs) {
+			weights = append(weights, [2]float64{math.NaN(), math.NaN()})
+			continue
+		}
+		ropt := resp.Options{RateHz: fs, StartS: float64(i0) / fs}
+		// QDC from the first qdcSpanS of the run.
+		q0, q1 := i0, min(i1, i0+int(qdcSpanS*fs))
+		qopt := resp.Options{RateHz: fs, StartS: float64(q0) / fs}
+		what := "kept the previous weights"
+		if qr, qerr := resp.QDC(rc.Samples[q0:q1], ab.Samples[q0:q1], qopt, resp.QDCOptions{}); qerr == nil && isFinite(qr.K) && qr.K > 0 {
+			cal = qr.Calibration()
+			what = fmt.Sprintf("K = %.3f from %d of %d breaths at %.0f-%.0f s", qr.K, qr.Used, qr.Total, float64(q0)/fs, float64(q1)/fs)
+		}
+		ropt.Calibration = cal
+		rr, derr := resp.Detect(rc.Samples[i0:i1], ab.Samples[i0:i1], ropt)
+		if derr != nil {
+			return res, cal, runs, weights, "", derr
+		}
+		res.Breaths = append(res.Breaths, rr.Breaths...)
+		res.Pauses = append(res.Pauses, rr.Pauses...)
+		res.Gaps = append(res.Gaps, rr.Gaps...)
+		res.Discarded += rr.Discarded
+		res.Calibration = rr.Calibration
+		rw, aw := cal.RibWeight, cal.AbdWeight
+		if rw == 0 && aw == 0 {
+			rw, aw = 1, 1
+		}
+		weights = append(weights, [2]float64{rw, aw})
+		label := r.Label
+		if label == "" {
+			label = "whole recording"
+		}
+		notes = append(notes, fmt.Sprintf("%s %.0f-%.0f s: %s", label, r.Start, r.End, what))
+	}
+	why := "the feature table applies no calibration"
+	if bcr.Note != "" {
+		why += " (" + bcr.Note + ")"
+	}
+	note = "QDC per posture as a fallback, " + why + " (relative calibration; " + resp.QDCCaveat + "): " + strings.Join(notes, "; ")
+	return res, cal, runs, weights, note, nil
 }
