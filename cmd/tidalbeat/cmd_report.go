@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 
+	"github.com/tidalbeat/tidalbeat/features"
 	"github.com/tidalbeat/tidalbeat/features/recording"
 	"github.com/tidalbeat/tidalbeat/features/report"
 )
@@ -15,12 +16,20 @@ func init() {
 	register(subcommand{name: "report", summary: "write a self-contained HTML report of a recording", run: runReport})
 }
 
-// runReport implements: tidalbeat report RECORD [-o report.html].
+// runReport implements: tidalbeat report RECORD [-o report.html] with the
+// breathing calibration flags of tidalbeat features.
 func runReport(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("report", stderr)
 	out := fs.String("o", "report.html", "output HTML `file`")
+	// The breathing calibration flags of "tidalbeat features" (same names,
+	// same parsing), so a report is drawn with the calibration its table
+	// was made with.
+	ribW := fs.Float64("rib-weight", 0, "known rib-cage band weight, `L per band unit` (with -abd-weight)")
+	abdW := fs.Float64("abd-weight", 0, "known abdominal band weight, `L per band unit` (with -rib-weight)")
+	qdc := fs.String("qdc", "", "QDC calibration over `START,END` seconds from the record start (natural breathing, one posture)")
+	vref := fs.Bool("vref-annotations", false, "calibrate to litres from reference breaths annotated \"vref=<volume> L\" (with a duration)")
 	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: tidalbeat report RECORD [-o report.html]")
+		fmt.Fprintln(stderr, "usage: tidalbeat report RECORD [-o report.html] [-vref-annotations | -qdc START,END | -rib-weight W -abd-weight W]")
 		fs.PrintDefaults()
 	}
 	pos, err := parseInterspersed(fs, args)
@@ -30,11 +39,15 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 	if len(pos) != 1 {
 		return fmt.Errorf("%w: want one RECORD, got %d arguments", errUsage, len(pos))
 	}
+	bc, err := breathCalFlags(*ribW, *abdW, *qdc, *vref)
+	if err != nil {
+		return err
+	}
 	rec, err := recording.Open(pos[0])
 	if err != nil {
 		return err
 	}
-	a, err := report.Analyze(rec, report.Options{})
+	a, err := report.Analyze(rec, report.Options{Features: features.Config{BreathCalibration: bc}})
 	if err != nil {
 		return err
 	}
