@@ -27,7 +27,11 @@ var activityCols = []Column{
 	{Name: "n_saturated", Kind: Int, Doc: "saturated samples in the window"},
 	{Name: "motion_artefact", Kind: Int, Doc: "1 when motion likely corrupts ECG and bands in this window, else 0"},
 	{Name: "artefact_reason", Kind: Text, Doc: "why motion_artefact is 1"},
+	{Name: "nonwear_frac", Kind: Float, Doc: "share of the window during which the device was judged off the body, live reading: an instant counts when the latest 60-min non-wear window (15-min steps) ending at or before it met the rule after van Hees et al. 2013 (per-axis SD < 13 mg and range < 50 mg on 2 of 3 axes; thresholds from memory, unverified); causal, so it lags non-wear onset by 60-75 min and its end by up to 15 min; 0 where no window has been judged yet"},
 }
+
+// nonWearCol is the index of nonwear_frac in activityCols.
+const nonWearCol = 15
 
 // newActivityFamily builds the activity family from the three accelerometer
 // axes through the motion package (its Derive/EpochsOf batch pair and its
@@ -64,6 +68,16 @@ func newActivityFamily(rec *recording.Recording, cfg Config, withData bool, _ *s
 		if n == 0 {
 			return nil, nil
 		}
+		nw, err := motion.NewNonWearStream(rate, unit, motion.NonWearOptions{})
+		if err != nil {
+			return nil, err
+		}
+		if err := nw.Push(chs[0].Samples[:n], chs[1].Samples[:n], chs[2].Samples[:n]); err != nil {
+			return nil, err
+		}
+		if err := nw.Close(); err != nil {
+			return nil, err
+		}
 		tr, err := motion.Derive(chs[0].Samples[:n], chs[1].Samples[:n], chs[2].Samples[:n], rate, opts)
 		if err != nil {
 			return nil, err
@@ -74,7 +88,7 @@ func newActivityFamily(rec *recording.Recording, cfg Config, withData bool, _ *s
 		}
 		out := make([]famResult, len(eps))
 		for i := range eps {
-			out[i] = epochResult(&eps[i])
+			out[i] = epochResult(&eps[i], nw.TrailingFrac(eps[i].Start, eps[i].End))
 		}
 		return out, nil
 	}
@@ -83,14 +97,18 @@ func newActivityFamily(rec *recording.Recording, cfg Config, withData bool, _ *s
 		if err != nil {
 			return nil, err
 		}
-		return &activityDriver{ms: ms, last: math.MinInt64}, nil
+		nw, err := motion.NewNonWearStream(rate, unit, motion.NonWearOptions{})
+		if err != nil {
+			return nil, err
+		}
+		return &activityDriver{ms: ms, nw: nw, last: math.MinInt64}, nil
 	}
 	return f
 }
 
-// epochResult turns a motion epoch into the family's row part; both drivers
-// call it.
-func epochResult(e *motion.Epoch) famResult {
+// epochResult turns a motion epoch and its non-wear share into the family's
+// row part; both drivers call it.
+func epochResult(e *motion.Epoch, nonWear float64) famResult {
 	r := famResult{seq: e.Seq, coverage: e.Coverage, reason: e.Reason,
 		v: make([]float64, len(activityCols)), t: make([]string, len(activityCols))}
 	for i := range r.v {
@@ -113,19 +131,26 @@ func epochResult(e *motion.Epoch) famResult {
 	r.t[8] = e.Intensity.String()
 	r.t[9] = e.Posture.String()
 	r.t[14] = e.ArtefactReason
+	r.v[nonWearCol] = nonWear
 	if math.IsNaN(e.CadenceSPM) && r.reason == "" {
 		r.reason = "cadence_spm: fewer than two steps"
 	}
 	return r
 }
 
-// activityDriver feeds the three axes to a motion.Stream in step (it needs
-// equal-length chunks) and turns its epochs into row parts.
+// activityDriver feeds the three axes to a motion.Stream and a
+// motion.NonWearStream in step (they need equal-length chunks) and turns
+// their epochs into row parts. An epoch is held back until the non-wear
+// stream has decided its span (NonWearStream.Decided, at most one 15-min
+// step behind the samples; in practice the epoch is already decided when
+// motion releases it), so its nonwear_frac is the batch value.
 type activityDriver struct {
-	ms    *motion.Stream
-	buf   [3][]float64
-	last  int64
-	ended bool
+	ms      *motion.Stream
+	nw      *motion.NonWearStream
+	pending []motion.Epoch
+	buf     [3][]float64
+	last    int64
+	ended   bool
 }
 
 func (d *activityDriver) push(in int, x []float64, _ []window.Interval) ([]famResult, error) {
@@ -139,6 +164,9 @@ func (d *activityDriver) push(in int, x []float64, _ []window.Interval) ([]famRe
 	if err := d.ms.Push(d.buf[0][:n], d.buf[1][:n], d.buf[2][:n]); err != nil {
 		return nil, err
 	}
+	if err := d.nw.Push(d.buf[0][:n], d.buf[1][:n], d.buf[2][:n]); err != nil {
+		return nil, err
+	}
 	for i := range d.buf {
 		d.buf[i] = append(d.buf[i][:0], d.buf[i][n:]...)
 	}
@@ -146,17 +174,29 @@ func (d *activityDriver) push(in int, x []float64, _ []window.Interval) ([]famRe
 }
 
 func (d *activityDriver) take() []famResult {
-	eps := d.ms.Ready()
-	out := make([]famResult, len(eps))
-	for i := range eps {
-		out[i] = epochResult(&eps[i])
-		d.last = eps[i].Seq
+	d.pending = append(d.pending, d.ms.Ready()...)
+	final := d.nw.Decided()
+	var out []famResult
+	k := 0
+	for k < len(d.pending) && d.pending[k].End <= final {
+		e := &d.pending[k]
+		out = append(out, epochResult(e, d.nw.TrailingFrac(e.Start, e.End)))
+		d.last = e.Seq
+		k++
+	}
+	if k > 0 {
+		// Later epochs start no earlier than the last one released.
+		d.nw.Forget(d.pending[k-1].Start)
+		d.pending = d.pending[:copy(d.pending, d.pending[k:])]
 	}
 	return out
 }
 
 func (d *activityDriver) close() ([]famResult, error) {
 	if err := d.ms.Close(); err != nil {
+		return nil, err
+	}
+	if err := d.nw.Close(); err != nil {
 		return nil, err
 	}
 	d.ended = true

@@ -37,9 +37,18 @@ type NonWearStream struct {
 	pushed  int
 	blocks  []nwBlock
 	periods []window.Interval // merged, in order
+	marks   []nwMark          // every judged window's end and verdict, in order
+	next    float64           // end of the next window to be judged (lower bound)
 	final   float64
 	closed  bool
 	err     error
+}
+
+// nwMark is one judged long window: its end (s) and whether it met the
+// non-wear rule (an invalid window does not).
+type nwMark struct {
+	end float64
+	off bool
 }
 
 type nwBlock struct {
@@ -81,7 +90,7 @@ func NewNonWearStream(rateHz float64, u Unit, opts NonWearOptions) (*NonWearStre
 	if err != nil {
 		return nil, fmt.Errorf("motion: non-wear stream: %w", err)
 	}
-	return &NonWearStream{o: o, conv: conv, rate: rateHz, ws: ws, bs: bs}, nil
+	return &NonWearStream{o: o, conv: conv, rate: rateHz, ws: ws, bs: bs, next: o.StepS}, nil
 }
 
 func (s *NonWearStream) fail(err error) error {
@@ -162,6 +171,7 @@ func (s *NonWearStream) Close() error {
 		return err
 	}
 	s.final = math.Inf(1)
+	s.next = math.Inf(1)
 	return nil
 }
 
@@ -183,7 +193,9 @@ func (s *NonWearStream) collect() error {
 			bi++
 		}
 		s.blocks = s.blocks[:copy(s.blocks, s.blocks[bi:])]
+		s.next = w.End + s.o.StepS
 		if !w.Valid {
+			s.marks = append(s.marks, nwMark{end: w.End})
 			continue
 		}
 		var st [3]axisStats
@@ -197,7 +209,9 @@ func (s *NonWearStream) collect() error {
 		if at != w.Hi {
 			return s.fail(fmt.Errorf("window [%d,%d) not tiled by blocks (reached %d): %w", w.Lo, w.Hi, at, ErrInput))
 		}
-		if decide(&st, s.conv, s.o) {
+		off := decide(&st, s.conv, s.o)
+		s.marks = append(s.marks, nwMark{end: w.End, off: off})
+		if off {
 			iv := window.Interval{Start: math.Max(w.Start, 0), End: math.Min(w.End, end)}
 			if n := len(s.periods); n > 0 && iv.Start <= s.periods[n-1].End {
 				s.periods[n-1].End = math.Max(s.periods[n-1].End, iv.End)
@@ -226,14 +240,57 @@ func (s *NonWearStream) Frac(start, end float64) float64 {
 	return NonWearFrac(s.periods, start, end)
 }
 
-// Forget drops the periods that end at or before t, to bound memory in a
-// long stream once no span before t will be asked for.
+// Forget drops the periods that end at or before t and the verdicts no
+// span starting at or after t needs, to bound memory in a long stream once
+// no span before t will be asked for.
 func (s *NonWearStream) Forget(t float64) {
 	i := 0
 	for i < len(s.periods) && s.periods[i].End <= t {
 		i++
 	}
 	s.periods = s.periods[:copy(s.periods, s.periods[i:])]
+	j := 0
+	for j+1 < len(s.marks) && s.marks[j+1].end <= t {
+		j++
+	}
+	s.marks = s.marks[:copy(s.marks, s.marks[j:])]
+}
+
+// Decided returns a time up to which the live (trailing) status is
+// decided: every long window ending before it has been judged, so
+// TrailingFrac of a span ending at or before it is final. It runs at most
+// one step behind the samples pushed, and is +Inf after Close.
+func (s *NonWearStream) Decided() float64 { return s.next }
+
+// TrailingFrac returns the share of [start, end) during which the device was
+// off the body by the live, causal reading of the rule: an instant t counts
+// when the latest long window ending at or before t was judged non-wear (an
+// invalid window counts as worn). Unlike the retrospective Periods it needs
+// no look-ahead, so it lags the true onset of non-wear by one window plus up
+// to one step (60-75 min by default) and its end by up to one step (15 min).
+// It is final once Decided() >= end; NaN for an empty or non-finite span.
+func (s *NonWearStream) TrailingFrac(start, end float64) float64 {
+	if !(end > start) || !finite(start) || !finite(end) {
+		return math.NaN()
+	}
+	in := 0.0
+	for i, m := range s.marks {
+		if m.end >= end {
+			break
+		}
+		if !m.off {
+			continue
+		}
+		until := end
+		if i+1 < len(s.marks) {
+			until = math.Min(until, s.marks[i+1].end)
+		}
+		from := math.Max(m.end, start)
+		if until > from {
+			in += until - from
+		}
+	}
+	return math.Min(1, in/(end-start))
 }
 
 // NonWearFrac returns the share of [start, end) covered by the periods
