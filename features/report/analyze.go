@@ -271,23 +271,26 @@ func (a *Analysis) postureRuns(end float64) []Span {
 	return out
 }
 
-// bandsOf returns the rib-cage and abdominal bands as the feature table
-// finds them: the first channel of each role after Config.Roles overrides.
-func bandsOf(rec *recording.Recording, cfg features.Config) (rc, ab *recording.Channel) {
+// roleOf returns the first channel of role r after Config.Roles overrides
+// (as the feature table finds its channels), or nil.
+func roleOf(rec *recording.Recording, cfg features.Config, r recording.Role) *recording.Channel {
 	for i := range rec.Channels {
 		ch := &rec.Channels[i]
-		r := ch.Role
+		cr := ch.Role
 		if o, ok := cfg.Roles[ch.Name]; ok {
-			r = o
+			cr = o
 		}
-		switch {
-		case r == recording.RoleRibCage && rc == nil:
-			rc = ch
-		case r == recording.RoleAbdomen && ab == nil:
-			ab = ch
+		if cr == r {
+			return ch
 		}
 	}
-	return rc, ab
+	return nil
+}
+
+// bandsOf returns the rib-cage and abdominal bands as the feature table
+// finds them.
+func bandsOf(rec *recording.Recording, cfg features.Config) (rc, ab *recording.Channel) {
+	return roleOf(rec, cfg, recording.RoleRibCage), roleOf(rec, cfg, recording.RoleAbdomen)
 }
 
 // breathing detects the breaths behind the breathing trace, the candidate
@@ -309,7 +312,8 @@ func bandsOf(rec *recording.Recording, cfg features.Config) (rc, ab *recording.C
 // undefined there.
 //
 // Candidate events are detected on all the breaths together
-// (resp.DetectEvents defaults), and an excerpt of the weighted sum is kept
+// (resp.DetectEvents defaults, with the SpO2 channel when there is one, as
+// the breathing family does; it detects them per window context), and an excerpt of the weighted sum is kept
 // for the breathing-trace figure.
 func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	rc, ab := bandsOf(rec, opt.Features)
@@ -365,14 +369,23 @@ func (a *Analysis) breathing(rec *recording.Recording, opt Options) error {
 	}
 	a.Breaths = res.Breaths
 	in := a.Input
-	if ev, err := resp.DetectEvents(res, resp.EventOptions{}); err != nil {
+	// Events as the breathing family finds them: resp.EventOptions
+	// defaults, with the SpO2 channel (the first one after Config.Roles
+	// overrides) for the desaturation criterion when there is one.
+	eopt := resp.EventOptions{}
+	spo2 := "no SpO2"
+	if sp := roleOf(rec, opt.Features, recording.RoleSpO2); sp != nil && sp.RateHz > 0 && !math.IsInf(sp.RateHz, 0) && len(sp.Samples) > 0 {
+		eopt.SpO2, eopt.SpO2RateHz = sp.Samples, sp.RateHz
+		spo2 = "SpO2 for the desaturation criterion, no arousal"
+	}
+	if ev, err := resp.DetectEvents(res, eopt); err != nil {
 		a.Missing = append(a.Missing, "respiratory events: "+err.Error())
 	} else {
 		a.Events = ev
 		for _, e := range ev {
 			in.Breath.Events = append(in.Breath.Events, Span{Start: e.Start, End: e.End, Label: e.Class.String() + " " + e.Kind.String()})
 		}
-		in.Facts = append(in.Facts, Fact{Name: "candidate events", Value: fmt.Sprintf("%d apnea/hypopnea candidates (amplitude and duration criteria of Berry et al. 2012 on the band sum; no SpO2 or arousal, so not scored events)", len(ev))})
+		in.Facts = append(in.Facts, Fact{Name: "candidate events", Value: fmt.Sprintf("%d apnea/hypopnea candidates (amplitude and duration criteria of Berry et al. 2012 on the band sum; %s, so not scored events)", len(ev), spo2)})
 	}
 	in.Facts = append(in.Facts, Fact{Name: "breaths detected", Value: fmt.Sprintf("%d; %s", len(res.Breaths), note)})
 	// Excerpt: see Options.ExcerptS.

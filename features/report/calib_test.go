@@ -135,3 +135,26 @@ func TestReportBreathingFallbackQDC(t *testing.T) {
 		}
 	}
 }
+
+// TestReportEventsUseSpO2: with an SpO2 channel the candidate events get
+// the desaturation criterion, as in the table's breathing family, and the
+// summary says so.
+func TestReportEventsUseSpO2(t *testing.T) {
+	rec, b := calibRecording(t)
+	sp := make([]float64, len(b.Rib)/50)
+	for i := range sp {
+		sp[i] = 97
+	}
+	rec.Channels = append(rec.Channels, recording.Channel{Name: "spo2", Unit: "%", RateHz: 1, Samples: sp, Role: recording.RoleSpO2})
+	a, err := Analyze(rec, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, f := range a.Input.Facts {
+		found = found || (f.Name == "candidate events" && strings.Contains(f.Value, "SpO2 for the desaturation criterion"))
+	}
+	if !found {
+		t.Errorf("candidate-events fact does not say SpO2 was used: %v", a.Input.Facts)
+	}
+}
