@@ -85,8 +85,8 @@ type Spectrum struct {
 type Breath struct {
 	T0S     float64   // time of Samples[0], s
 	RateHz  float64   // sampling rate of Samples
-	Samples []float64 // calibrated sum (or one band), arbitrary units unless Unit says otherwise
-	Unit    string
+	Samples []float64 // weighted band sum (Analyze: the feature table's calibration, or QDC per posture as the fallback)
+	Unit    string    // unit of Samples: "L" under an absolute calibration, "AU" otherwise (drawn on the axis)
 	// Peaks are end-inspiration times, Troughs end-expiration times, s.
 	Peaks, Troughs []float64
 	Events         []Span // candidate apnea / hypopnea events (all, not only in the excerpt)
