@@ -23,8 +23,12 @@
 //     through the engine's streaming driver, so live and batch results are
 //     identical (tested over random chunkings).
 //   - Calibrate (auto-calibration against gravity, after van Hees et al. 2014)
-//     and NonWear (after van Hees et al. 2011 and 2013) are batch helpers; both
-//     run their windows through the same engine.
+//     is a batch helper; NonWear (after van Hees et al. 2011 and 2013) finds
+//     non-wear periods in batch and NonWearStream in bounded memory from
+//     chunks (per-block per-axis statistics, the same periods for any
+//     chunking). NonWearStream also gives the causal live reading
+//     TrailingFrac, which package features reports per window as
+//     nonwear_frac. All run their windows through the same engine.
 //
 // Measures and their sources: ENMO after van Hees et al., PLoS One 8(4):e61691,
 // 2013; MAD after Vähä-Ypyä et al., Clin Physiol Funct Imaging 35(1):64-70,

@@ -161,3 +161,45 @@ func ExampleCalibrate() {
 	// Output:
 	// offset 0.000 0.020 0.000 g, scale 1.000 1.000 1.030, from 52 still windows
 }
+
+func ExampleNonWearStream() {
+	// An hour worn and walking, two hours on a table (1 mg noise), then
+	// worn again, fed live in one-minute chunks.
+	s, err := motion.NewNonWearStream(10, motion.UnitG, motion.NonWearOptions{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	rng := newRand(3)
+	x, y, z := make([]float64, 600), make([]float64, 600), make([]float64, 600)
+	for m := range 4 * 60 {
+		for i := range x {
+			t := float64(m*600+i) / 10
+			if t >= 3600 && t < 3*3600 {
+				x[i], y[i], z[i] = 0.001*rng.NormFloat64(), 0.001*rng.NormFloat64(), 1+0.001*rng.NormFloat64()
+			} else {
+				x[i], y[i], z[i] = 0.1*math.Sin(3*t), 1+0.3*math.Sin(11*t), 0.05*math.Sin(7*t)
+			}
+		}
+		if err := s.Push(x, y, z); err != nil {
+			fmt.Println(err)
+			return
+		}
+		if h := float64(m+1) / 60; h == 2.5 || h == 3.5 {
+			// Live reading of the last ten minutes, decided without look-ahead.
+			now := float64(m+1) * 60
+			fmt.Printf("at %.1f h: last 10 min %.0f %% off the body (decided to %.0f s)\n", h, 100*s.TrailingFrac(now-600, now), s.Decided())
+		}
+	}
+	if err := s.Close(); err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, v := range s.Periods() {
+		fmt.Printf("not worn from %.0f s to %.0f s\n", v.Start, v.End)
+	}
+	// Output:
+	// at 2.5 h: last 10 min 100 % off the body (decided to 9900 s)
+	// at 3.5 h: last 10 min 0 % off the body (decided to 13500 s)
+	// not worn from 3600 s to 10800 s
+}

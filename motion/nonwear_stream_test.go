@@ -147,3 +147,89 @@ func TestNonWearStreamErrors(t *testing.T) {
 		t.Errorf("push after close: %v, want ErrClosed", err)
 	}
 }
+
+// trailingFracs feeds the samples in random chunks and, after each chunk,
+// reads TrailingFrac for every 30-s span that Decided covers and that was
+// not read before; it returns all of them (the live reading).
+func trailingFracs(t *testing.T, x, y, z []float64, rate float64, o motion.NonWearOptions, seed uint64) []float64 {
+	t.Helper()
+	s, err := motion.NewNonWearStream(rate, motion.UnitG, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := newRand(seed)
+	dur := float64(len(x)) / rate
+	var out []float64
+	read := func() {
+		for e := 30 * float64(len(out)+1); e <= dur && e <= s.Decided(); e += 30 {
+			out = append(out, s.TrailingFrac(e-30, e))
+			s.Forget(e - 30)
+		}
+	}
+	for i := 0; i < len(x); {
+		n := min(len(x)-i, 1+rng.IntN(30000))
+		if err := s.Push(x[i:i+n], y[i:i+n], z[i:i+n]); err != nil {
+			t.Fatal(err)
+		}
+		if d := s.Decided(); d > float64(i+n)/rate+o.StepS+900 {
+			t.Fatalf("decided to %v s with only %v s pushed", d, float64(i+n)/rate)
+		}
+		i += n
+		read()
+	}
+	if err := s.Close(); err != nil {
+		t.Fatal(err)
+	}
+	read()
+	return out
+}
+
+// The live reading is the same for any chunking (house rule), and on the
+// methods reference 6.6 derived cases (van Hees et al. 2013 default and the
+// 2011 variant; thresholds from memory, unverified) it reads 1 once a whole
+// still window has passed (onset lag: one window plus up to one step,
+// derived from the window layout) and 0 throughout 50 mg two-axis movement.
+func TestNonWearTrailingFrac(t *testing.T) {
+	const rate = 10.0
+	rng := newRand(5)
+	// 1 h worn (50 mg on two axes), 2.5 h still (1 mg noise), 1 h worn.
+	x, y, z := gen(rate, 4.5*3600, func(tt float64) (float64, float64, float64) {
+		if tt >= 3600 && tt < 3.5*3600 {
+			return 0.001 * rng.NormFloat64(), 1 + 0.001*rng.NormFloat64(), 0.001 * rng.NormFloat64()
+		}
+		return 0.05 * math.Sin(0.5*tt), 1 + 0.05*math.Sin(0.7*tt), 0
+	})
+	for _, o := range []motion.NonWearOptions{{WindowS: 3600, StepS: 900}, {WindowS: 1800, StepS: 900, SDmg: 3, Either: true}} {
+		want := trailingFracs(t, x, y, z, rate, o, 1)
+		if len(want) != 540 {
+			t.Fatalf("%+v: %d spans read, want 540", o, len(want))
+		}
+		for seed := uint64(2); seed <= 4; seed++ {
+			got := trailingFracs(t, x, y, z, rate, o, seed)
+			for i := range want {
+				if got[i] != want[i] {
+					t.Fatalf("%+v seed %d: span %d live %v, other chunking %v", o, seed, i, got[i], want[i])
+				}
+			}
+		}
+		var on, off int
+		for i, f := range want {
+			s := 30 * float64(i)
+			switch {
+			case s+30 <= 3600+o.StepS, s >= 3.5*3600+o.StepS:
+				on++
+				if f != 0 {
+					t.Errorf("%+v: worn span at %v s reads %v, want 0", o, s, f)
+				}
+			case s >= 3600+o.WindowS+o.StepS && s+30 <= 3.5*3600:
+				off++
+				if f != 1 {
+					t.Errorf("%+v: still span at %v s reads %v, want 1", o, s, f)
+				}
+			}
+		}
+		if on < 200 || off < 100 {
+			t.Errorf("%+v: only %d worn and %d still spans checked", o, on, off)
+		}
+	}
+}
