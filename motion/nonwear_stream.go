@@ -113,6 +113,20 @@ func (s *NonWearStream) Push(x, y, z []float64) error {
 	if len(x) != len(y) || len(x) != len(z) {
 		return fmt.Errorf("motion: non-wear stream: axis lengths %d, %d, %d differ: %w", len(x), len(y), len(z), ErrInput)
 	}
+	// Pieces of at most one block keep the sample buffer within about two
+	// blocks whatever the chunk size (a whole record pushed at once is not
+	// copied).
+	piece := max(1, int(s.o.StepS*s.rate))
+	for i := 0; i < len(x); i += piece {
+		j := min(len(x), i+piece)
+		if err := s.push(x[i:j], y[i:j], z[i:j]); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (s *NonWearStream) push(x, y, z []float64) error {
 	for k, a := range [3][]float64{x, y, z} {
 		if !s.refSet[k] {
 			for _, v := range a {
