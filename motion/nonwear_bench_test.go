@@ -13,7 +13,7 @@ import (
 // reading the live value per 30 s as package features does. It reports the
 // time per week and the heap in use at the end (bounded: about two 15-min
 // blocks of samples, independent of the record length, on top of the 8.6 MB
-// simulated day it replays; measured 0.44 s and 10.7 MB on the 2-core CI box).
+// simulated day it replays; measured 0.44 s and 10.7 MB on the shared 2-core development machine).
 func BenchmarkNonWearStreamWeek(b *testing.B) {
 	rec, err := sim.AccelSimulate(sim.AccelTrailDay(), sim.AccelConfig{RateHz: 50, Seed: 1})
 	if err != nil {
