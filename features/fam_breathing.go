@@ -253,6 +253,14 @@ type vrefSpan struct {
 
 var vrefPattern = regexp.MustCompile(`(?i)^\s*vref\s*=\s*([0-9]*\.?[0-9]+(?:e[-+]?[0-9]+)?)\s*(l|ml)?\s*$`)
 
+// IsReferenceBreathMark reports whether an annotation marks a reference
+// breath of the band calibration ("vref=0.80 L", see BreathCalibration).
+// Such marks calibrate the bands; they do not describe the subject, so they
+// are neither label columns nor report segments.
+func IsReferenceBreathMark(a recording.Annotation) bool {
+	return vrefPattern.MatchString(a.Text) || vrefPattern.MatchString(a.Code)
+}
+
 // vrefSpans returns the reference-breath annotations (sorted by time) and
 // a note on those that could not be used.
 func vrefSpans(anns []recording.Annotation, bc BreathCalibration) ([]vrefSpan, string) {

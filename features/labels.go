@@ -89,7 +89,7 @@ func AnnotationLabels(rec *recording.Recording, end float64) []Label {
 	var out []Label
 	var rhythm *Label
 	for _, a := range rec.Annotations {
-		if a.IsBeat() || vrefPattern.MatchString(a.Text) || vrefPattern.MatchString(a.Code) {
+		if a.IsBeat() || IsReferenceBreathMark(a) {
 			continue
 		}
 		if a.Code == "+" {

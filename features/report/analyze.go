@@ -116,12 +116,13 @@ func unitOr(u string) string {
 }
 
 // labelSpans returns the annotations with a duration (segment labels,
-// events) as spans, and one SegmentStat per label.
+// events) as spans, and one SegmentStat per label. Reference-breath marks of
+// the band calibration are not segments.
 func labelSpans(rec *recording.Recording) ([]Span, []SegmentStat) {
 	var spans []Span
 	var segs []SegmentStat
 	for _, an := range rec.Annotations {
-		if an.Duration > 0 && an.Text != "" {
+		if an.Duration > 0 && an.Text != "" && !features.IsReferenceBreathMark(an) {
 			spans = append(spans, Span{Start: an.Time, End: an.Time + an.Duration, Label: an.Text})
 			segs = append(segs, SegmentStat{Label: an.Text, Start: an.Time, End: an.Time + an.Duration})
 		}
