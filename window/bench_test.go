@@ -31,8 +31,8 @@ func BenchmarkSamplesBatch7Days(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		for w := range seq {
-			windows += w.Hi - w.Lo - w.Hi + w.Lo + 1
+		for range seq {
+			windows++
 		}
 	}
 	b.ReportMetric(b.Elapsed().Seconds()*1e9/float64(b.N)/float64(n), "ns/sample")

@@ -1,7 +1,6 @@
 package window
 
 import (
-	"math"
 	"math/rand/v2"
 	"sort"
 	"testing"
@@ -226,7 +225,7 @@ func TestSampleStreamBufferBounded(t *testing.T) {
 	if limit := 2*(1000+200) + 2*len(chunk); maxBuf > limit {
 		t.Fatalf("buffer grew to %d samples, bound %d", maxBuf, limit)
 	}
-	if math.IsNaN(float64(maxBuf)) || maxBuf < 1000 {
+	if maxBuf < 1000 {
 		t.Fatalf("buffer only %d samples: windows cannot have been complete", maxBuf)
 	}
 }
